@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# Installs every Debian package gridtruth needs to build, test and benchmark.
+# Idempotent: skips apt entirely when every package is already installed.
+set -euo pipefail
+packages=(
+  build-essential cmake ninja-build pkg-config
+  libgeographiclib-dev libproj-dev proj-data proj-bin
+  libboost-dev libfmt-dev nlohmann-json3-dev libcli11-dev
+  libgtest-dev libgmock-dev libbenchmark-dev
+  clang libclang-rt-14-dev
+)
+missing=()
+for p in "${packages[@]}"; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
+done
+if [ ${#missing[@]} -eq 0 ]; then
+  echo "install-deps: all ${#packages[@]} packages present"
+  exit 0
+fi
+echo "install-deps: installing ${missing[*]}"
+SUDO=""
+if [ "$(id -u)" -ne 0 ]; then SUDO="sudo"; fi
+export DEBIAN_FRONTEND=noninteractive
+$SUDO apt-get update -qq
+$SUDO apt-get install -y -qq --no-install-recommends "${missing[@]}"

@@ -1,0 +1,45 @@
+// gridtruth — coordinate reference system resolution.
+#pragma once
+
+#include <optional>
+#include <string>
+
+namespace gridtruth {
+
+/// What kind of CRS a definition resolves to (compound CRSs are described by their horizontal part).
+enum class CrsKind { geographic, projected, geocentric, other };
+
+/// An ellipsoid: semi-major axis a (metres) and flattening f (0 for a sphere).
+struct Ellipsoid {
+  std::string name;
+  double a_m = 0;
+  double f = 0;
+};
+
+/// Geographic bounding box of a CRS's area of use, in degrees. west > east means it crosses the antimeridian.
+struct AreaOfUse {
+  std::string name;
+  double west_deg = -180, south_deg = -90, east_deg = 180, north_deg = 90;
+};
+
+/// The facts gridtruth needs about a CRS.
+struct CrsInfo {
+  std::string definition;      ///< as given by the caller
+  std::string name;            ///< the CRS's own name, e.g. "WGS 84 / UTM zone 32N"
+  std::string id;              ///< "AUTHORITY:CODE" when known, else empty
+  CrsKind kind = CrsKind::other;
+  Ellipsoid ellipsoid;         ///< the ellipsoid of its geodetic datum
+  std::string datum_name;      ///< e.g. "World Geodetic System 1984 ensemble"
+  std::string base_geographic_name;  ///< the geographic CRS it is built on (itself when geographic)
+  std::string linear_unit_name;      ///< e.g. "metre", "US survey foot"; empty for a geographic CRS
+  double linear_unit_m = 1;          ///< metres per linear unit (1200/3937 for the US survey foot)
+  std::optional<AreaOfUse> area_of_use;  ///< absent when the database knows none
+};
+
+/// Resolves any CRS definition PROJ accepts: "EPSG:32632", WKT1, WKT2, PROJJSON, or a PROJ string
+/// ("+proj=utm +zone=32 +datum=WGS84"; "+type=crs" is added when missing).
+/// Throws Error(ErrorCode::unknown_crs) naming the definition when PROJ cannot make a CRS of it.
+/// Thread-safe: each call uses its own PROJ context.
+CrsInfo describe_crs(const std::string& definition);
+
+}  // namespace gridtruth

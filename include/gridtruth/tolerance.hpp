@@ -1,0 +1,35 @@
+// gridtruth — tolerances and verdicts.
+#pragma once
+
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace gridtruth {
+
+/// What a tolerance limits.
+enum class Metric { area, length, bearing };
+
+/// One tolerance. Relative tolerances are stored in ppm (0.1 % → 1000 ppm; 1:10000 → 100 ppm);
+/// absolute ones in metres (length), square metres (area) or arcseconds (bearing).
+struct Tolerance {
+  enum class Kind { relative_ppm, absolute };
+  Metric metric = Metric::area;
+  Kind kind = Kind::relative_ppm;
+  double value = 0;  ///< ppm, m, m² or arcsec as above; always > 0
+
+  /// Parses "area=0.1%", "length=100ppm", "length=1:10000", "area=50m2", "length=0.05m", "bearing=20arcsec".
+  /// Also accepted: "ha" for areas (hectares, converted to m²). Throws Error(invalid_argument) with the reason.
+  static Tolerance parse(std::string_view spec);
+  /// Comma-separated list of parse() specs; an empty string gives no tolerances.
+  static std::vector<Tolerance> parse_list(std::string_view specs);
+
+  /// Canonical text, e.g. "area<=1000ppm", "length<=0.05m", "bearing<=20arcsec".
+  std::string to_string() const;
+};
+
+/// The outcome of comparing a feature against the tolerances that apply to it.
+enum class Verdict { none, pass, fail };
+std::string_view to_string(Verdict v) noexcept;  // "", "pass", "fail"
+
+}  // namespace gridtruth
