@@ -1,0 +1,247 @@
+// gridtruth — feature geometry and its validation.
+#include "gridtruth/geometry.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+#include <string>
+#include <utility>
+
+namespace gridtruth {
+
+namespace {
+
+// Where a path sits inside its geometry, e.g. "polygon 2 hole 1" or "" for the one line of a LineString.
+// Indices are 0-based, as in the GeoJSON coordinate arrays and the C++ vectors.
+std::string join_location(const std::string& where, const std::string& what) {
+  if (where.empty()) return what;
+  if (what.empty()) return where;
+  return where + " " + what;
+}
+
+std::string format_number(double v) {
+  std::ostringstream out;
+  out.precision(15);
+  out << v;
+  return out.str();
+}
+
+void add(std::vector<Problem>& problems, Problem::Code code, const std::string& where, const std::string& text) {
+  problems.push_back(Problem{code, where.empty() ? text : where + ": " + text});
+}
+
+// Checks one coordinate: finite, |lat| <= 90, |lon| <= 540. Adds one problem per defect.
+void check_coord(const Coord& c, const std::string& where, std::vector<Problem>& problems) {
+  if (!std::isfinite(c.x) || !std::isfinite(c.y)) {
+    add(problems, Problem::Code::non_finite, where,
+        "non-finite coordinate (" + format_number(c.x) + ", " + format_number(c.y) + ")");
+    // A finite partner may still be out of range: check it too.
+    if (std::isfinite(c.y) && std::abs(c.y) > 90)
+      add(problems, Problem::Code::latitude_range, where,
+          "latitude " + format_number(c.y) + " is outside [-90, 90]");
+    if (std::isfinite(c.x) && std::abs(c.x) > 540)
+      add(problems, Problem::Code::longitude_range, where,
+          "longitude " + format_number(c.x) + " is outside [-540, 540]");
+    return;
+  }
+  if (std::abs(c.y) > 90)
+    add(problems, Problem::Code::latitude_range, where,
+        "latitude " + format_number(c.y) + " is outside [-90, 90]");
+  if (std::abs(c.x) > 540)
+    add(problems, Problem::Code::longitude_range, where,
+        "longitude " + format_number(c.x) + " is outside [-540, 540]");
+}
+
+// Number of distinct vertices of a path. Repeated consecutive vertices and a closing vertex are the same
+// point as their neighbour, so counting distinct values covers both; non-finite vertices each count once
+// (they are reported on their own and must not also produce a "too few vertices" report).
+std::size_t distinct_vertices(const Path& path) {
+  std::vector<std::pair<double, double>> finite;
+  finite.reserve(path.size());
+  std::size_t non_finite = 0;
+  for (const Coord& c : path) {
+    if (std::isfinite(c.x) && std::isfinite(c.y))
+      finite.emplace_back(c.x, c.y);
+    else
+      ++non_finite;
+  }
+  std::sort(finite.begin(), finite.end());
+  const auto last = std::unique(finite.begin(), finite.end());
+  return static_cast<std::size_t>(last - finite.begin()) + non_finite;
+}
+
+void check_vertices(const Path& path, const std::string& where, std::vector<Problem>& problems) {
+  for (std::size_t i = 0; i < path.size(); ++i)
+    check_coord(path[i], join_location(where, "vertex " + std::to_string(i)), problems);
+}
+
+void check_line(const Path& line, const std::string& where, std::vector<Problem>& problems) {
+  if (line.empty()) {
+    add(problems, Problem::Code::empty, where, "line is empty");
+    return;
+  }
+  check_vertices(line, where, problems);
+  const std::size_t n = distinct_vertices(line);
+  if (n < 2)
+    add(problems, Problem::Code::too_few_vertices, where,
+        "line has " + std::to_string(n) + " distinct vertex, needs 2");
+}
+
+void check_ring(const Path& ring, const std::string& where, std::vector<Problem>& problems) {
+  if (ring.empty()) {
+    add(problems, Problem::Code::empty, where, "ring is empty");
+    return;
+  }
+  check_vertices(ring, where, problems);
+  const std::size_t n = distinct_vertices(ring);
+  if (n < 3)
+    add(problems, Problem::Code::too_few_vertices, where,
+        "ring has " + std::to_string(n) + (n == 1 ? " distinct vertex" : " distinct vertices") + ", needs 3");
+}
+
+void check_polygon(const Polygon& polygon, const std::string& where, std::vector<Problem>& problems) {
+  check_ring(polygon.outer, join_location(where, "outer ring"), problems);
+  for (std::size_t h = 0; h < polygon.holes.size(); ++h)
+    check_ring(polygon.holes[h], join_location(where, "hole " + std::to_string(h)), problems);
+}
+
+void check_single_count(std::size_t count, std::string_view type, std::string_view part,
+                        std::vector<Problem>& problems) {
+  if (count == 1) return;
+  add(problems, Problem::Code::wrong_part_count, "",
+      std::string(type) + " has " + std::to_string(count) + " " + std::string(part) + "s, needs exactly 1");
+}
+
+void check_multi_count(std::size_t count, std::string_view type, std::vector<Problem>& problems) {
+  if (count == 0) add(problems, Problem::Code::empty, "", std::string(type) + " has no parts");
+}
+
+}  // namespace
+
+std::string_view to_string(GeometryType type) noexcept {
+  switch (type) {
+    case GeometryType::point: return "Point";
+    case GeometryType::line_string: return "LineString";
+    case GeometryType::polygon: return "Polygon";
+    case GeometryType::multi_point: return "MultiPoint";
+    case GeometryType::multi_line_string: return "MultiLineString";
+    case GeometryType::multi_polygon: return "MultiPolygon";
+  }
+  return "Unknown";
+}
+
+Geometry Geometry::point(Coord c) {
+  Geometry g;
+  g.type = GeometryType::point;
+  g.points.push_back(c);
+  return g;
+}
+
+Geometry Geometry::line_string(Path line) {
+  Geometry g;
+  g.type = GeometryType::line_string;
+  g.lines.push_back(std::move(line));
+  return g;
+}
+
+Geometry Geometry::polygon(Path outer, std::vector<Path> holes) {
+  Geometry g;
+  g.type = GeometryType::polygon;
+  g.polygons.push_back(Polygon{std::move(outer), std::move(holes)});
+  return g;
+}
+
+Geometry Geometry::multi_polygon(std::vector<Polygon> parts) {
+  Geometry g;
+  g.type = GeometryType::multi_polygon;
+  g.polygons = std::move(parts);
+  return g;
+}
+
+Geometry Geometry::multi_line_string(std::vector<Path> parts) {
+  Geometry g;
+  g.type = GeometryType::multi_line_string;
+  g.lines = std::move(parts);
+  return g;
+}
+
+Geometry Geometry::multi_point(std::vector<Coord> parts) {
+  Geometry g;
+  g.type = GeometryType::multi_point;
+  g.points = std::move(parts);
+  return g;
+}
+
+std::size_t Geometry::vertex_count() const noexcept {
+  switch (type) {
+    case GeometryType::point:
+    case GeometryType::multi_point:
+      return points.size();
+    case GeometryType::line_string:
+    case GeometryType::multi_line_string: {
+      std::size_t n = 0;
+      for (const Path& line : lines) n += line.size();
+      return n;
+    }
+    case GeometryType::polygon:
+    case GeometryType::multi_polygon: {
+      std::size_t n = 0;
+      for (const Polygon& polygon : polygons) {
+        n += polygon.outer.size();
+        for (const Path& hole : polygon.holes) n += hole.size();
+      }
+      return n;
+    }
+  }
+  return 0;
+}
+
+std::vector<Problem> validate(const Geometry& geometry) {
+  std::vector<Problem> problems;
+  switch (geometry.type) {
+    case GeometryType::point:
+      check_single_count(geometry.points.size(), "Point", "point", problems);
+      for (std::size_t i = 0; i < geometry.points.size(); ++i)
+        check_coord(geometry.points[i], geometry.points.size() == 1 ? "point" : "point " + std::to_string(i),
+                    problems);
+      break;
+    case GeometryType::multi_point:
+      check_multi_count(geometry.points.size(), "MultiPoint", problems);
+      for (std::size_t i = 0; i < geometry.points.size(); ++i)
+        check_coord(geometry.points[i], "point " + std::to_string(i), problems);
+      break;
+    case GeometryType::line_string:
+      check_single_count(geometry.lines.size(), "LineString", "line", problems);
+      for (std::size_t i = 0; i < geometry.lines.size(); ++i)
+        check_line(geometry.lines[i], geometry.lines.size() == 1 ? "" : "line " + std::to_string(i), problems);
+      break;
+    case GeometryType::multi_line_string:
+      check_multi_count(geometry.lines.size(), "MultiLineString", problems);
+      for (std::size_t i = 0; i < geometry.lines.size(); ++i)
+        check_line(geometry.lines[i], "line " + std::to_string(i), problems);
+      break;
+    case GeometryType::polygon:
+      check_single_count(geometry.polygons.size(), "Polygon", "polygon", problems);
+      for (std::size_t i = 0; i < geometry.polygons.size(); ++i)
+        check_polygon(geometry.polygons[i],
+                      geometry.polygons.size() == 1 ? "" : "polygon " + std::to_string(i), problems);
+      break;
+    case GeometryType::multi_polygon:
+      check_multi_count(geometry.polygons.size(), "MultiPolygon", problems);
+      for (std::size_t i = 0; i < geometry.polygons.size(); ++i)
+        check_polygon(geometry.polygons[i], "polygon " + std::to_string(i), problems);
+      break;
+  }
+  return problems;
+}
+
+std::string describe(const std::vector<Problem>& problems) {
+  std::string text;
+  for (const Problem& p : problems) {
+    if (!text.empty()) text += "; ";
+    text += p.message;
+  }
+  return text;
+}
+
+}  // namespace gridtruth
