@@ -56,8 +56,10 @@ struct Distortion {
   double areal_scale_min = 0;  ///< smallest a·b
   double areal_scale_max = 0;  ///< largest a·b
   double angular_distortion_max_deg = 0;  ///< largest ω = 2 asin((a − b)/(a + b)), degrees
-  double convergence_min_deg = 0;         ///< meridian convergence γ (angle from grid north to true north,
-  double convergence_max_deg = 0;         ///< positive clockwise; PROJ's sign convention), degrees
+  /// Meridian convergence γ in degrees: the angle from true north to grid north, positive clockwise (for a
+  /// transverse Mercator, positive east of the central meridian in the northern hemisphere: γ ≈ Δλ·sin φ).
+  double convergence_min_deg = 0;
+  double convergence_max_deg = 0;
 };
 
 /// The distortion of the target projection at one point.
@@ -68,7 +70,7 @@ struct PointFactors {
   double tissot_a = 0;           ///< largest scale at the point
   double tissot_b = 0;           ///< smallest scale at the point
   double angular_distortion_deg = 0;  ///< ω
-  double convergence_deg = 0;         ///< γ
+  double convergence_deg = 0;         ///< γ, as in Distortion
 };
 
 enum class Status { ok, invalid, unmeasurable };
