@@ -1,0 +1,119 @@
+// gridtruth — reading features (GeoJSON, newline-delimited GeoJSON, CSV with WKT) and writing result rows (CSV).
+//
+// Readers are pull-based: FeatureReader::next() yields one feature at a time, so inputs of any size stream
+// through in constant memory (except a GeoJSON document that is a single Feature or bare geometry, which is read
+// whole). Every feature found in the input yields exactly one InputFeature: a feature that cannot be understood
+// comes back with `error` set and no geometry, never dropped. Only an input that is unreadable as a whole (not
+// JSON at all, a CSV without its geometry column, brackets that do not match) makes next() throw
+// Error(ErrorCode::parse), naming the byte offset or line.
+// Byte numbers in messages are 0-based offsets into the input; line numbers are 1-based.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <iosfwd>
+#include <memory>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/geometry.hpp"
+
+namespace gridtruth {
+
+/// Input formats. `automatic` sniffs the first bytes (see sniff_format()).
+enum class InputFormat { automatic, geojson, ndjson, csv };
+
+/// "auto", "geojson", "ndjson", "csv".
+std::string_view to_string(InputFormat format) noexcept;
+/// Parses the names of to_string() (case-insensitive; "geojsonseq" and "jsonl" also mean ndjson).
+/// Throws Error(invalid_argument) for any other name.
+InputFormat parse_input_format(std::string_view name);
+
+/// Guesses the format from the first bytes of an input (a UTF-8 byte order mark is skipped):
+/// a record separator (0x1E) → ndjson; a JSON object followed, on a later line, by another object → ndjson;
+/// any other text starting with '{' or '[' → geojson; anything else → csv.
+InputFormat sniff_format(std::string_view head) noexcept;
+
+/// How a reader finds ids and geometries.
+struct ReaderOptions {
+  InputFormat format = InputFormat::automatic;
+  std::string id_field;         ///< GeoJSON property or CSV column used as id when a feature has no GeoJSON id
+  std::string wkt_field = "wkt";  ///< CSV column that holds the WKT geometry (matched case-insensitively)
+};
+
+/// One feature as read.
+struct InputFeature {
+  std::string id;                      ///< GeoJSON "id", else the id_field value, else `position` as text
+  std::size_t position = 0;            ///< 1-based position in the input
+  std::size_t line = 0;                ///< line where the feature starts (ndjson, csv; 0 when not tracked)
+  std::optional<Geometry> geometry;    ///< absent when the feature has no usable geometry
+  std::optional<GeometryType> declared_type;  ///< the geometry type named by the input, when recognised
+  std::string error;                   ///< why the feature could not be read; empty when `geometry` is set
+};
+
+/// Pulls features one at a time from a stream or a file.
+class FeatureReader {
+ public:
+  /// Reads from `in`, which must outlive the reader.
+  explicit FeatureReader(std::istream& in, ReaderOptions options = {});
+  /// Opens `path` ("-" reads standard input). Throws Error(io) when the file cannot be opened.
+  explicit FeatureReader(const std::string& path, ReaderOptions options = {});
+  ~FeatureReader();
+  FeatureReader(FeatureReader&&) noexcept;
+  FeatureReader& operator=(FeatureReader&&) noexcept;
+  FeatureReader(const FeatureReader&) = delete;
+  FeatureReader& operator=(const FeatureReader&) = delete;
+
+  /// The next feature, or nothing at the end of the input. Throws Error(parse) when the container is unreadable
+  /// (the first call may also throw for an empty input or a CSV header without the geometry column).
+  std::optional<InputFeature> next();
+
+  /// The format in use (sniffed on the first call to next() when `automatic`; `automatic` until then).
+  InputFormat format() const noexcept;
+  /// Bytes consumed so far (for progress reports).
+  std::uint64_t bytes_read() const noexcept;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+/// Parses simple-features WKT (ISO 19125-1 / OGC 06-103r4): POINT, LINESTRING, POLYGON, MULTIPOINT (with or
+/// without parentheses around each point), MULTILINESTRING, MULTIPOLYGON, keywords in any case, EMPTY, and Z, M or
+/// ZM coordinates (the third and fourth ordinates are dropped). Coordinates are taken as (longitude, latitude).
+/// Throws Error(parse) naming the problem and its 1-based character position (GEOMETRYCOLLECTION included:
+/// it is not supported).
+Geometry parse_wkt(std::string_view text);
+
+/// Formats a number with the fewest digits that read back to the same double (plain decimal notation from 1e-5
+/// to 1e15, exponent notation outside); empty for NaN and infinities.
+std::string format_number(double value);
+
+/// Quotes one CSV field as RFC 4180 section 2 says: fields holding a comma, a double quote, CR or LF are enclosed
+/// in double quotes and inner quotes doubled; any other field is written as is.
+std::string csv_field(std::string_view text);
+
+/// Writes audit results as CSV rows (RFC 4180), one per feature, with the columns of result_columns().
+/// Numbers use format_number(); a value that does not apply (a point's length, a line's area, NaN) is an empty
+/// cell. Lines end with CRLF (RFC 4180 section 2.1) unless another ending is given.
+class ResultCsvWriter {
+ public:
+  explicit ResultCsvWriter(std::ostream& out, std::string line_ending = "\r\n");
+  /// The column names, in order.
+  static const std::vector<std::string>& columns();
+  void write_header();
+  /// One audited feature.
+  void write_row(std::string_view id, const AuditResult& result);
+  /// One feature that could not be read: status `invalid`, the message, the geometry type when known.
+  void write_unread_row(std::string_view id, std::string_view message,
+                        std::optional<GeometryType> type = std::nullopt);
+
+ private:
+  std::ostream* out_;
+  std::string line_ending_;
+};
+
+}  // namespace gridtruth

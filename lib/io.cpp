@@ -1,0 +1,187 @@
+// gridtruth — the feature reader facade: opening, format sniffing, numbering.
+#include <cctype>
+#include <cerrno>
+#include <cstring>
+#include <fstream>
+#include <iostream>
+#include <utility>
+
+#include "gridtruth/error.hpp"
+#include "gridtruth/io.hpp"
+#include "io_detail.hpp"
+
+namespace gridtruth {
+namespace detail {
+
+namespace {
+constexpr std::size_t chunk_bytes = 1 << 16;
+}
+
+bool is_json_space(int c) noexcept { return c == ' ' || c == '\t' || c == '\n' || c == '\r'; }
+
+bool Source::fill() {
+  if (at_end_) return false;
+  if (pos_ == buf_.size()) {
+    buf_.clear();
+    pos_ = 0;
+  }
+  const std::size_t old = buf_.size();
+  buf_.resize(old + chunk_bytes);
+  in_->read(buf_.data() + old, static_cast<std::streamsize>(chunk_bytes));
+  const auto got = static_cast<std::size_t>(in_->gcount());
+  buf_.resize(old + got);
+  if (got == 0) {
+    at_end_ = true;
+    return false;
+  }
+  return true;
+}
+
+std::string_view Source::look_ahead(std::size_t n) {
+  if (pos_ > 0 && buf_.size() - pos_ < n) {  // compact so that the look-ahead is contiguous
+    buf_.erase(0, pos_);
+    pos_ = 0;
+  }
+  while (buf_.size() - pos_ < n && fill()) {
+  }
+  return std::string_view(buf_).substr(pos_, std::min(n, buf_.size() - pos_));
+}
+
+void Source::skip_bom() {
+  if (look_ahead(3) == "\xEF\xBB\xBF") {
+    pos_ += 3;
+    offset_ += 3;
+  }
+}
+
+}  // namespace detail
+
+std::string_view to_string(InputFormat format) noexcept {
+  switch (format) {
+    case InputFormat::automatic: return "auto";
+    case InputFormat::geojson: return "geojson";
+    case InputFormat::ndjson: return "ndjson";
+    case InputFormat::csv: return "csv";
+  }
+  return "auto";
+}
+
+InputFormat parse_input_format(std::string_view name) {
+  std::string lower(name);
+  for (auto& c : lower) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  if (lower == "auto") return InputFormat::automatic;
+  if (lower == "geojson" || lower == "json") return InputFormat::geojson;
+  if (lower == "ndjson" || lower == "geojsonseq" || lower == "geojsonl" || lower == "jsonl")
+    return InputFormat::ndjson;
+  if (lower == "csv") return InputFormat::csv;
+  throw Error(ErrorCode::invalid_argument,
+              "unknown input format \"" + std::string(name) + "\" (expected auto, geojson, ndjson or csv)");
+}
+
+InputFormat sniff_format(std::string_view head) noexcept {
+  if (head.substr(0, 3) == "\xEF\xBB\xBF") head.remove_prefix(3);
+  std::size_t i = 0;
+  while (i < head.size() && detail::is_json_space(static_cast<unsigned char>(head[i]))) ++i;
+  if (i == head.size()) return InputFormat::geojson;  // empty or blank: the JSON reader reports it
+  if (head[i] == '\x1E') return InputFormat::ndjson;
+  if (head[i] == '[') return InputFormat::geojson;
+  if (head[i] != '{') return InputFormat::csv;
+  // Find the end of the first JSON object (lexically), then see whether another object starts on a later line.
+  int depth = 0;
+  bool in_string = false;
+  for (; i < head.size(); ++i) {
+    const char c = head[i];
+    if (in_string) {
+      if (c == '\\') ++i;
+      else if (c == '"') in_string = false;
+      continue;
+    }
+    if (c == '"') in_string = true;
+    else if (c == '{' || c == '[') ++depth;
+    else if (c == '}' || c == ']') {
+      if (--depth == 0) break;
+    }
+  }
+  if (i >= head.size()) return InputFormat::geojson;  // one object longer than the look-ahead
+  bool newline = false;
+  for (++i; i < head.size(); ++i) {
+    const char c = head[i];
+    if (c == '\n') newline = true;
+    else if (c == '\x1E') return InputFormat::ndjson;
+    else if (!detail::is_json_space(static_cast<unsigned char>(c))) return (c == '{' && newline) ? InputFormat::ndjson
+                                                                                                 : InputFormat::geojson;
+  }
+  return InputFormat::geojson;
+}
+
+struct FeatureReader::Impl {
+  std::unique_ptr<std::ifstream> file;
+  detail::Source source;
+  ReaderOptions options;
+  InputFormat format = InputFormat::automatic;
+  std::unique_ptr<detail::FormatReader> reader;
+  std::size_t count = 0;
+  bool done = false;
+
+  Impl(std::istream& in, ReaderOptions o, std::unique_ptr<std::ifstream> f = nullptr)
+      : file(std::move(f)), source(in), options(std::move(o)) {}
+};
+
+FeatureReader::FeatureReader(std::istream& in, ReaderOptions options)
+    : impl_(std::make_unique<Impl>(in, std::move(options))) {}
+
+namespace {
+std::unique_ptr<std::ifstream> open_file(const std::string& path) {
+  auto file = std::make_unique<std::ifstream>(path, std::ios::binary);
+  if (!*file) throw Error(ErrorCode::io, "cannot open " + path + ": " + std::strerror(errno));
+  return file;
+}
+}  // namespace
+
+FeatureReader::FeatureReader(const std::string& path, ReaderOptions options) {
+  if (path == "-") {
+    impl_ = std::make_unique<Impl>(std::cin, std::move(options));
+  } else {
+    auto file = open_file(path);
+    std::istream& in = *file;
+    impl_ = std::make_unique<Impl>(in, std::move(options), std::move(file));
+  }
+}
+
+FeatureReader::~FeatureReader() = default;
+FeatureReader::FeatureReader(FeatureReader&&) noexcept = default;
+FeatureReader& FeatureReader::operator=(FeatureReader&&) noexcept = default;
+
+std::optional<InputFeature> FeatureReader::next() {
+  auto& s = *impl_;
+  if (s.done) return std::nullopt;
+  if (!s.reader) {
+    s.format = s.options.format;
+    if (s.format == InputFormat::automatic) s.format = sniff_format(s.source.look_ahead(1 << 16));
+    switch (s.format) {
+      case InputFormat::ndjson: s.reader = detail::make_ndjson_reader(s.source, s.options); break;
+      case InputFormat::csv: s.reader = detail::make_csv_reader(s.source, s.options); break;
+      default: s.reader = detail::make_geojson_reader(s.source, s.options); break;
+    }
+  }
+  std::optional<InputFeature> feature;
+  try {
+    feature = s.reader->next();
+  } catch (...) {
+    s.done = true;
+    throw;
+  }
+  if (!feature) {
+    s.done = true;
+    return std::nullopt;
+  }
+  feature->position = ++s.count;
+  if (feature->id.empty()) feature->id = std::to_string(feature->position);
+  if (!feature->geometry && feature->error.empty()) feature->error = "no geometry";
+  return feature;
+}
+
+InputFormat FeatureReader::format() const noexcept { return impl_->format; }
+std::uint64_t FeatureReader::bytes_read() const noexcept { return impl_->source.offset(); }
+
+}  // namespace gridtruth

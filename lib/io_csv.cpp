@@ -1,0 +1,171 @@
+// gridtruth — CSV (RFC 4180) reader for features with a WKT geometry column.
+//
+// The first record is the header. Records end with CRLF or LF; fields in double quotes may hold commas, line
+// breaks and doubled quotes (RFC 4180 section 2.5-2.7). A record whose field count differs from the header's, a
+// quote left open at the end of the input or an unparseable WKT value gives an invalid feature; the header
+// itself must name the geometry column.
+#include <cctype>
+#include <string>
+#include <vector>
+
+#include "gridtruth/error.hpp"
+#include "gridtruth/io.hpp"
+#include "io_detail.hpp"
+
+namespace gridtruth {
+namespace detail {
+namespace {
+
+std::string lower(std::string_view s) {
+  std::string out(s);
+  for (auto& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+std::string trim(std::string_view s) {
+  std::size_t b = 0, e = s.size();
+  while (b < e && std::isspace(static_cast<unsigned char>(s[b]))) ++b;
+  while (e > b && std::isspace(static_cast<unsigned char>(s[e - 1]))) --e;
+  return std::string(s.substr(b, e - b));
+}
+
+struct Record {
+  std::vector<std::string> fields;
+  std::size_t line = 0;
+  std::string error;  // a malformed record (still one feature)
+};
+
+/// Reads one RFC 4180 record. Returns false at the end of the input (no record).
+bool read_record(Source& src, Record& r) {
+  r.fields.clear();
+  r.error.clear();
+  r.line = src.line();
+  if (src.peek() < 0) return false;
+  std::string field;
+  for (;;) {
+    int c = src.peek();
+    if (c == '"') {  // a quoted field
+      const std::size_t opened = src.line();
+      src.get();
+      for (;;) {
+        c = src.get();
+        if (c < 0) {
+          r.error = "the input ends inside a quoted field opened on line " + std::to_string(opened) +
+                    " (unterminated quote, RFC 4180 section 2.7)";
+          r.fields.push_back(std::move(field));
+          return true;
+        }
+        if (c == '"') {
+          if (src.peek() == '"') {
+            src.get();
+            field.push_back('"');
+            continue;
+          }
+          break;
+        }
+        field.push_back(static_cast<char>(c));
+      }
+      c = src.peek();
+      if (c >= 0 && c != ',' && c != '\r' && c != '\n') {
+        if (r.error.empty())
+          r.error = "text after the closing quote of field " + std::to_string(r.fields.size() + 1) +
+                    " (RFC 4180 section 2.7)";
+        while ((c = src.peek()) >= 0 && c != ',' && c != '\r' && c != '\n') field.push_back(static_cast<char>(src.get()));
+      }
+    } else {
+      while ((c = src.peek()) >= 0 && c != ',' && c != '\r' && c != '\n') field.push_back(static_cast<char>(src.get()));
+    }
+    r.fields.push_back(std::move(field));
+    field.clear();
+    c = src.get();
+    if (c == ',') continue;
+    if (c == '\r' && src.peek() == '\n') src.get();
+    return true;  // end of line or of input
+  }
+}
+
+class CsvReader final : public FormatReader {
+ public:
+  CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options) {}
+
+  std::optional<InputFeature> next() override {
+    if (!header_read_) read_header();
+    Record r;
+    for (;;) {
+      if (!read_record(src_, r)) return std::nullopt;
+      if (r.fields.size() == 1 && r.fields[0].empty() && r.error.empty()) continue;  // a blank line
+      break;
+    }
+    InputFeature f;
+    f.line = r.line;
+    if (id_column_ && *id_column_ < r.fields.size()) f.id = r.fields[*id_column_];
+    if (!r.error.empty()) {
+      f.error = "line " + std::to_string(r.line) + ": " + r.error;
+      return f;
+    }
+    if (r.fields.size() != columns_) {
+      f.error = "line " + std::to_string(r.line) + ": the record has " + std::to_string(r.fields.size()) +
+                " fields where the header has " + std::to_string(columns_) +
+                " (a value holding commas must be in double quotes, RFC 4180 section 2.6)";
+      return f;
+    }
+    const std::string& wkt = r.fields[wkt_column_];
+    if (trim(wkt).empty()) {
+      f.error = "line " + std::to_string(r.line) + ": empty geometry cell";
+      return f;
+    }
+    Geometry g;
+    std::string error;
+    if (!parse_wkt(wkt, g, f.declared_type, error)) {
+      f.error = "line " + std::to_string(r.line) + ": " + error;
+      return f;
+    }
+    f.geometry = std::move(g);
+    return f;
+  }
+
+ private:
+  void read_header() {
+    header_read_ = true;
+    src_.skip_bom();
+    Record h;
+    if (!read_record(src_, h))
+      throw Error(ErrorCode::parse, "CSV: empty input (a header line naming the columns is needed)");
+    if (!h.error.empty()) throw Error(ErrorCode::parse, "CSV header (line 1): " + h.error);
+    columns_ = h.fields.size();
+    const std::string want = lower(trim(options_.wkt_field));
+    const std::string want_id = lower(trim(options_.id_field));
+    std::optional<std::size_t> wkt;
+    std::string names;
+    for (std::size_t k = 0; k < h.fields.size(); ++k) {
+      const std::string name = lower(trim(h.fields[k]));
+      if (!wkt && name == want) wkt = k;
+      if (!id_column_ && !want_id.empty() && name == want_id) id_column_ = k;
+      if (k) names += ", ";
+      names += h.fields[k];
+    }
+    if (!wkt)
+      throw Error(ErrorCode::parse, "CSV header (line 1) has no geometry column \"" + options_.wkt_field +
+                                        "\" (columns: " + names + ")");
+    if (!want_id.empty() && !id_column_)
+      throw Error(ErrorCode::invalid_argument, "CSV header (line 1) has no id column \"" + options_.id_field +
+                                                   "\" (columns: " + names + ")");
+    wkt_column_ = *wkt;
+  }
+
+  Source& src_;
+  const ReaderOptions& options_;
+  bool header_read_ = false;
+  std::size_t columns_ = 0;
+  std::size_t wkt_column_ = 0;
+  std::optional<std::size_t> id_column_;
+};
+
+}  // namespace
+
+std::unique_ptr<FormatReader> make_csv_reader(Source& source, const ReaderOptions& options) {
+  return std::make_unique<CsvReader>(source, options);
+}
+
+}  // namespace detail
+}  // namespace gridtruth

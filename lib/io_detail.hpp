@@ -1,0 +1,75 @@
+// gridtruth — internals shared by the readers (not installed).
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <istream>
+#include <memory>
+#include <optional>
+#include <string>
+#include <string_view>
+
+#include "gridtruth/geometry.hpp"
+#include "gridtruth/io.hpp"
+
+namespace gridtruth::detail {
+
+/// A byte source over an istream with look-ahead (for sniffing), a byte offset and a line counter.
+class Source {
+ public:
+  explicit Source(std::istream& in) : in_(&in) {}
+
+  /// Next byte (0..255) without consuming it, or -1 at the end.
+  int peek() {
+    if (pos_ == buf_.size() && !fill()) return -1;
+    return static_cast<unsigned char>(buf_[pos_]);
+  }
+  /// Consumes and returns the next byte, or -1 at the end.
+  int get() {
+    if (pos_ == buf_.size() && !fill()) return -1;
+    const auto c = static_cast<unsigned char>(buf_[pos_++]);
+    ++offset_;
+    if (c == '\n') ++line_;
+    return c;
+  }
+  /// Up to n bytes ahead without consuming them (fewer at the end of the input).
+  std::string_view look_ahead(std::size_t n);
+  /// Skips a UTF-8 byte order mark if the input starts with one.
+  void skip_bom();
+
+  /// Bytes consumed so far (0-based offset of the next byte).
+  std::uint64_t offset() const noexcept { return offset_; }
+  /// 1-based line of the next byte.
+  std::size_t line() const noexcept { return line_; }
+
+ private:
+  bool fill();
+
+  std::istream* in_;
+  std::string buf_;
+  std::size_t pos_ = 0;
+  std::uint64_t offset_ = 0;
+  std::size_t line_ = 1;
+  bool at_end_ = false;
+};
+
+/// One format's reader. Implementations fill everything in InputFeature but `position` (and `id` when the input
+/// gives none): the facade numbers the features.
+class FormatReader {
+ public:
+  virtual ~FormatReader() = default;
+  virtual std::optional<InputFeature> next() = 0;
+};
+
+std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOptions& options);
+std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options);
+std::unique_ptr<FormatReader> make_csv_reader(Source& source, const ReaderOptions& options);
+
+/// Non-throwing WKT parser behind parse_wkt(). On failure returns false with `error` set; `declared` is the
+/// geometry type named by the keyword when it was recognised (also on failure).
+bool parse_wkt(std::string_view text, Geometry& geometry, std::optional<GeometryType>& declared,
+               std::string& error);
+
+bool is_json_space(int c) noexcept;
+
+}  // namespace gridtruth::detail

@@ -1,0 +1,126 @@
+// gridtruth — writing audit results as CSV (RFC 4180), numbers in their shortest round-trip form.
+#include <charconv>
+#include <cmath>
+#include <ostream>
+#include <string>
+
+#include "gridtruth/io.hpp"
+
+namespace gridtruth {
+
+std::string format_number(double value) {
+  if (!std::isfinite(value)) return {};
+  if (value == 0) return "0";  // also for -0: a signed zero means nothing here
+  char buf[64];
+  // Without a precision, to_chars writes the shortest text that reads back to the same double; plain decimals
+  // in the range where they stay short enough to read.
+  const double magnitude = std::fabs(value);
+  const auto format = (magnitude >= 1e-5 && magnitude < 1e15) ? std::chars_format::fixed : std::chars_format::general;
+  const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, format);
+  if (ec != std::errc()) return {};
+  return std::string(buf, end);
+}
+
+std::string csv_field(std::string_view text) {
+  if (text.find_first_of(",\"\r\n") == std::string_view::npos) return std::string(text);
+  std::string out;
+  out.reserve(text.size() + 2);
+  out.push_back('"');
+  for (const char c : text) {
+    if (c == '"') out.push_back('"');
+    out.push_back(c);
+  }
+  out.push_back('"');
+  return out;
+}
+
+ResultCsvWriter::ResultCsvWriter(std::ostream& out, std::string line_ending)
+    : out_(&out), line_ending_(std::move(line_ending)) {}
+
+const std::vector<std::string>& ResultCsvWriter::columns() {
+  static const std::vector<std::string> names = {
+      "id", "geometry_type", "status", "message", "vertices",
+      "true_length_m", "grid_length_m", "length_error_m", "length_error_ppm", "length_from_edges_m",
+      "length_from_scale_m", "length_from_datum_m", "length_from_height_m",
+      "true_area_m2", "grid_area_m2", "area_error_m2", "area_error_ppm", "area_from_edges_m2", "area_from_scale_m2",
+      "area_from_datum_m2", "area_from_height_m2",
+      "scale_min", "scale_max", "areal_scale_min", "areal_scale_max", "angular_distortion_max_deg",
+      "convergence_min_deg", "convergence_max_deg", "bearing_error_max_arcsec", "verdict"};
+  return names;
+}
+
+void ResultCsvWriter::write_header() {
+  const auto& names = columns();
+  for (std::size_t k = 0; k < names.size(); ++k) {
+    if (k) *out_ << ',';
+    *out_ << names[k];
+  }
+  *out_ << line_ending_;
+}
+
+namespace {
+
+void append_budget(std::string& line, const std::optional<Budget>& b) {
+  const double* values[8] = {};
+  if (b) {
+    values[0] = &b->reference;
+    values[1] = &b->grid;
+    values[2] = &b->error;
+    values[3] = &b->error_ppm;
+    values[4] = &b->from_edges;
+    values[5] = &b->from_scale;
+    values[6] = &b->from_datum;
+    values[7] = &b->from_height;
+  }
+  for (const double* v : values) {
+    line += ',';
+    if (v) line += format_number(*v);
+  }
+}
+
+}  // namespace
+
+void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
+  std::string line = csv_field(id);
+  line += ',';
+  line += to_string(r.type);
+  line += ',';
+  line += to_string(r.status);
+  line += ',';
+  line += csv_field(r.message);
+  line += ',';
+  line += std::to_string(r.vertices);
+  append_budget(line, r.length);
+  append_budget(line, r.area);
+  const Distortion* d = r.distortion ? &*r.distortion : nullptr;
+  const double distortion[7] = {
+      d ? d->scale_min : NAN,       d ? d->scale_max : NAN,           d ? d->areal_scale_min : NAN,
+      d ? d->areal_scale_max : NAN, d ? d->angular_distortion_max_deg : NAN, d ? d->convergence_min_deg : NAN,
+      d ? d->convergence_max_deg : NAN};
+  for (const double v : distortion) {
+    line += ',';
+    line += format_number(v);
+  }
+  line += ',';
+  if (r.bearing_error_max_arcsec) line += format_number(*r.bearing_error_max_arcsec);
+  line += ',';
+  line += to_string(r.verdict);
+  line += line_ending_;
+  *out_ << line;
+}
+
+void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view message,
+                                       std::optional<GeometryType> type) {
+  std::string line = csv_field(id);
+  line += ',';
+  if (type) line += to_string(*type);
+  line += ",invalid,";
+  line += csv_field(message);
+  line += ',';  // vertices: unknown
+  // 8 length + 8 area + 7 distortion + bearing + verdict columns, all empty.
+  line.append(8 + 8 + 7 + 1 + 1, ',');
+  line += line_ending_;
+  *out_ << line;
+}
+
+}  // namespace gridtruth
