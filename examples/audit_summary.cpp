@@ -1,0 +1,240 @@
+// gridtruth command — the run summary of `gridtruth audit`.
+#include "audit_summary.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <sstream>
+
+#include "gridtruth/error.hpp"
+
+namespace gridtruth::cli {
+
+const char* const caution_text =
+    "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
+
+const std::vector<std::string>& summary_unit_names() {
+  static const std::vector<std::string> names = {"metric", "hectare", "acre", "us-survey-acre"};
+  return names;
+}
+
+SummaryUnits summary_units(std::string_view name) {
+  // Area units. The international foot is 0.3048 m exactly, so the international acre (43 560 ft²) is
+  // 4 046.856 422 4 m² exactly. The US survey foot is 1200/3937 m, and the US survey acre 4 046.872 609 874 m²
+  // (to the digits published by NIST; the US survey foot was deprecated from 2023 by the notice in the Federal
+  // Register, 85 FR 62698 (5 October 2020), "Deprecation of the United States (U.S.) Survey Foot").
+  if (name == "metric") return {"metric", "m", "m2", 1.0, 1.0};
+  if (name == "hectare") return {"hectare", "m", "ha", 1.0, 1e4};
+  if (name == "acre") return {"acre", "ft", "ac", 0.3048, 4046.8564224};
+  if (name == "us-survey-acre") return {"us-survey-acre", "ftUS", "acUS", 1200.0 / 3937.0, 4046.872609874};
+  throw Error(ErrorCode::invalid_argument,
+              "unknown units \"" + std::string(name) + "\" (expected metric, hectare, acre or us-survey-acre)");
+}
+
+void CompensatedSum::add(double v) {
+  // Neumaier's variant of Kahan summation.
+  const double t = sum_ + v;
+  if (std::fabs(sum_) >= std::fabs(v)) compensation_ += (sum_ - t) + v;
+  else compensation_ += (v - t) + sum_;
+  sum_ = t;
+}
+
+namespace {
+
+bool is_linear(GeometryType t) { return t == GeometryType::line_string || t == GeometryType::multi_line_string; }
+bool is_areal(GeometryType t) { return t == GeometryType::polygon || t == GeometryType::multi_polygon; }
+
+bool worse(const WorstFeature& a, const WorstFeature& b) {
+  const double fa = std::fabs(a.error_ppm), fb = std::fabs(b.error_ppm);
+  if (fa != fb) return fa > fb;
+  return a.position < b.position;
+}
+
+std::string fixed(double v, int decimals) {
+  if (!std::isfinite(v)) return "n/a";
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
+  return buf;
+}
+
+std::string signed_fixed(double v, int decimals) {
+  if (!std::isfinite(v)) return "n/a";
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%+.*f", decimals, v);
+  return buf;
+}
+
+double ppm(double error, double reference) { return reference != 0 ? 1e6 * error / reference : NAN; }
+
+nlohmann::ordered_json number_or_null(double v) {
+  return std::isfinite(v) ? nlohmann::ordered_json(v) : nlohmann::ordered_json(nullptr);
+}
+
+nlohmann::ordered_json crs_json(const CrsInfo& c) {
+  return {{"definition", c.definition}, {"name", c.name}, {"id", c.id}, {"datum", c.datum_name},
+          {"ellipsoid", c.ellipsoid.name}, {"linear_unit", c.linear_unit_name}};
+}
+
+}  // namespace
+
+void AuditSummary::add(const InputFeature& feature, const AuditResult& r) {
+  ++read_;
+  switch (r.status) {
+    case Status::ok: ++ok_; break;
+    case Status::invalid: ++invalid_; break;
+    case Status::unmeasurable: ++unmeasurable_; break;
+  }
+  if (r.verdict == Verdict::pass) ++pass_;
+  if (r.verdict == Verdict::fail) ++fail_;
+  if (r.status != Status::ok) return;
+
+  const Budget* b = nullptr;
+  std::string measure;
+  if (is_areal(r.type) && r.area) {
+    b = &*r.area;
+    measure = "area";
+    ++area_features_;
+    true_area_m2_.add(b->reference);
+    grid_area_m2_.add(b->grid);
+  } else if (is_linear(r.type) && r.length) {
+    b = &*r.length;
+    measure = "length";
+    ++length_features_;
+    true_length_m_.add(b->reference);
+    grid_length_m_.add(b->grid);
+  }
+  if (!b || !std::isfinite(b->error_ppm)) return;
+  worst_.push_back({feature.id, feature.position, r.type, measure, b->error_ppm, b->error, r.verdict});
+  if (worst_.size() > 4 * worst_count) {
+    std::partial_sort(worst_.begin(), worst_.begin() + worst_count, worst_.end(), worse);
+    worst_.resize(worst_count);
+  }
+}
+
+void AuditSummary::add_unread(const InputFeature&) {
+  ++read_;
+  ++invalid_;
+}
+
+std::vector<WorstFeature> AuditSummary::worst() const {
+  std::vector<WorstFeature> w = worst_;
+  std::sort(w.begin(), w.end(), worse);
+  if (w.size() > worst_count) w.resize(worst_count);
+  return w;
+}
+
+nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
+  using json = nlohmann::ordered_json;
+  const SummaryUnits& u = c.units;
+  json j;
+  j["input"] = c.input;
+  j["format"] = std::string(to_string(c.format));
+  if (c.auditor) {
+    const Auditor& a = *c.auditor;
+    j["source_crs"] = crs_json(a.source());
+    j["target_crs"] = crs_json(a.target());
+    const TransformInfo& t = a.transform();
+    j["datum_transformation"] = {{"name", t.name},
+                                 {"accuracy_m", t.accuracy_m ? json(*t.accuracy_m) : json(nullptr)},
+                                 {"is_identity", t.is_identity},
+                                 {"is_ballpark", t.is_ballpark},
+                                 {"proj_string", t.proj_string}};
+    json tolerances = json::array();
+    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());
+    j["options"] = {{"height_m", a.options().height_m},
+                    {"densify_tolerance_m", a.options().densify_tolerance_m},
+                    {"tolerances", tolerances}};
+  }
+  j["units"] = {{"name", u.name},
+                {"length_unit", u.length_unit},
+                {"area_unit", u.area_unit},
+                {"metres_per_length_unit", u.length_m},
+                {"square_metres_per_area_unit", u.area_m2}};
+  j["counts"] = {{"read", read_}, {"ok", ok_},     {"invalid", invalid_}, {"unmeasurable", unmeasurable_},
+                 {"pass", pass_}, {"fail", fail_}};
+  const double tl = true_length_m_.value(), gl = grid_length_m_.value();
+  const double ta = true_area_m2_.value(), ga = grid_area_m2_.value();
+  j["totals"] = {
+      {"length_features", length_features_},
+      {"true_length", number_or_null(tl / u.length_m)},
+      {"grid_length", number_or_null(gl / u.length_m)},
+      {"length_error", number_or_null((gl - tl) / u.length_m)},
+      {"length_error_ppm", number_or_null(ppm(gl - tl, tl))},
+      {"area_features", area_features_},
+      {"true_area", number_or_null(ta / u.area_m2)},
+      {"grid_area", number_or_null(ga / u.area_m2)},
+      {"area_error", number_or_null((ga - ta) / u.area_m2)},
+      {"area_error_ppm", number_or_null(ppm(ga - ta, ta))},
+  };
+  json worst = json::array();
+  for (const auto& w : this->worst()) {
+    const double scale = w.measure == "area" ? u.area_m2 : u.length_m;
+    worst.push_back({{"id", w.id},
+                     {"position", w.position},
+                     {"geometry_type", std::string(to_string(w.type))},
+                     {"measure", w.measure},
+                     {"error_ppm", number_or_null(w.error_ppm)},
+                     {"error", number_or_null(w.error / scale)},
+                     {"verdict", std::string(to_string(w.verdict))}});
+  }
+  j["worst_features"] = worst;
+  j["exit_status"] = exit_status();
+  j["caution"] = caution_text;
+  return j;
+}
+
+std::string AuditSummary::to_text(const Context& c) const {
+  const SummaryUnits& u = c.units;
+  std::ostringstream s;
+  s << "gridtruth audit: " << c.input << " (" << to_string(c.format) << ")\n";
+  if (c.auditor) {
+    const Auditor& a = *c.auditor;
+    auto crs_line = [](const CrsInfo& crs) {
+      std::string line = crs.name;
+      if (!crs.id.empty()) line += " [" + crs.id + "]";
+      return line;
+    };
+    s << "  source CRS:   " << crs_line(a.source()) << "\n";
+    s << "  target CRS:   " << crs_line(a.target()) << "\n";
+    const TransformInfo& t = a.transform();
+    s << "  datum transformation: " << t.name;
+    if (t.is_identity) {
+    } else if (t.accuracy_m) s << " (stated accuracy " << fixed(*t.accuracy_m, 3) << " m)";
+    else s << " (accuracy unknown)";
+    if (t.is_ballpark) s << " [ballpark: approximate only]";
+    s << "\n";
+    std::string tolerances;
+    for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.to_string();
+    s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";
+  }
+  s << "  features:     " << read_ << " read, " << ok_ << " ok, " << invalid_ << " invalid, " << unmeasurable_
+    << " unmeasurable; " << pass_ << " pass, " << fail_ << " fail\n";
+  if (area_features_ > 0) {
+    const double ta = true_area_m2_.value(), ga = grid_area_m2_.value();
+    s << "  area of " << area_features_ << " polygonal feature(s): true " << fixed(ta / u.area_m2, 4) << " "
+      << u.area_unit << ", grid " << fixed(ga / u.area_m2, 4) << " " << u.area_unit << ", error "
+      << signed_fixed((ga - ta) / u.area_m2, 4) << " " << u.area_unit << " (" << signed_fixed(ppm(ga - ta, ta), 1)
+      << " ppm)\n";
+  }
+  if (length_features_ > 0) {
+    const double tl = true_length_m_.value(), gl = grid_length_m_.value();
+    s << "  length of " << length_features_ << " linear feature(s): true " << fixed(tl / u.length_m, 3) << " "
+      << u.length_unit << ", grid " << fixed(gl / u.length_m, 3) << " " << u.length_unit << ", error "
+      << signed_fixed((gl - tl) / u.length_m, 3) << " " << u.length_unit << " ("
+      << signed_fixed(ppm(gl - tl, tl), 1) << " ppm)\n";
+  }
+  const auto w = worst();
+  if (!w.empty()) {
+    s << "  worst features by |ppm|:\n";
+    for (const auto& f : w) {
+      s << "    " << f.id << "  " << to_string(f.type) << "  " << f.measure << " " << signed_fixed(f.error_ppm, 1)
+        << " ppm";
+      if (f.verdict != Verdict::none) s << "  " << to_string(f.verdict);
+      s << "\n";
+    }
+  }
+  s << "  " << caution_text << "\n";
+  return s.str();
+}
+
+}  // namespace gridtruth::cli

@@ -1,0 +1,93 @@
+// gridtruth command — the run summary of `gridtruth audit`: counts, totals in the chosen units, worst features.
+#pragma once
+
+#include <cstddef>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/io.hpp"
+
+namespace gridtruth::cli {
+
+/// Units of the summary's totals (the CSV stays in metres and square metres).
+struct SummaryUnits {
+  std::string name;         ///< as given to --units
+  std::string length_unit;  ///< symbol, e.g. "m", "ft", "ftUS"
+  std::string area_unit;    ///< symbol, e.g. "m2", "ha", "ac"
+  double length_m = 1;      ///< metres per length unit
+  double area_m2 = 1;       ///< square metres per area unit
+};
+
+/// The names --units accepts: metric, hectare, acre, us-survey-acre.
+const std::vector<std::string>& summary_unit_names();
+/// Throws Error(invalid_argument) for a name not in summary_unit_names().
+SummaryUnits summary_units(std::string_view name);
+
+/// A sum with Neumaier's compensation (long sums of areas stay exact to rounding).
+class CompensatedSum {
+ public:
+  void add(double v);
+  double value() const { return sum_ + compensation_; }
+
+ private:
+  double sum_ = 0;
+  double compensation_ = 0;
+};
+
+/// One entry of the worst-features list.
+struct WorstFeature {
+  std::string id;
+  std::size_t position = 0;
+  GeometryType type = GeometryType::point;
+  std::string measure;  ///< "area" or "length"
+  double error_ppm = 0;
+  double error = 0;     ///< m or m²
+  Verdict verdict = Verdict::none;
+};
+
+/// Accumulates the summary of a run feature by feature (constant memory).
+class AuditSummary {
+ public:
+  static constexpr std::size_t worst_count = 10;
+
+  void add(const InputFeature& feature, const AuditResult& result);
+  void add_unread(const InputFeature& feature);
+
+  std::size_t read() const { return read_; }
+  std::size_t ok() const { return ok_; }
+  std::size_t invalid() const { return invalid_; }
+  std::size_t unmeasurable() const { return unmeasurable_; }
+  std::size_t pass() const { return pass_; }
+  std::size_t fail() const { return fail_; }
+  /// The worst features by |ppm| (areas for polygons, lengths for lines), worst first.
+  std::vector<WorstFeature> worst() const;
+
+  /// 0, 1 as `gridtruth audit` exits for this run (2 is decided before any feature is read).
+  int exit_status() const { return (invalid_ + unmeasurable_ + fail_) > 0 ? 1 : 0; }
+
+  /// Facts about the run that the summary reports besides the counts.
+  struct Context {
+    std::string input;
+    InputFormat format = InputFormat::automatic;
+    const Auditor* auditor = nullptr;
+    SummaryUnits units;
+  };
+  nlohmann::ordered_json to_json(const Context& context) const;
+  std::string to_text(const Context& context) const;
+
+ private:
+  std::size_t read_ = 0, ok_ = 0, invalid_ = 0, unmeasurable_ = 0, pass_ = 0, fail_ = 0;
+  std::size_t length_features_ = 0, area_features_ = 0;
+  CompensatedSum true_length_m_, grid_length_m_, true_area_m2_, grid_area_m2_;
+  std::vector<WorstFeature> worst_;
+};
+
+/// The caution printed with --help and every summary.
+extern const char* const caution_text;
+
+}  // namespace gridtruth::cli

@@ -1,0 +1,289 @@
+// gridtruth — the command-line tool. Thin: parse options, call the library, write rows and the summary.
+//
+//   gridtruth audit INPUT --crs TARGET [options]
+//
+// Exit status: 0 every feature ok and within tolerance; 1 some feature failed a tolerance or is invalid or
+// unmeasurable; 2 nothing could be audited (bad option, unreadable input, unknown CRS), with a one-line reason.
+#include <unistd.h>
+
+#include <CLI/CLI.hpp>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <fstream>
+#include <iostream>
+#include <memory>
+#include <optional>
+#include <string>
+
+#include "audit_summary.hpp"
+#include "gridtruth/audit.hpp"
+#include "gridtruth/error.hpp"
+#include "gridtruth/io.hpp"
+#include "gridtruth/tolerance.hpp"
+
+#ifndef GRIDTRUTH_VERSION
+#define GRIDTRUTH_VERSION "unknown"
+#endif
+
+namespace {
+
+using namespace gridtruth;
+
+constexpr int exit_ok = 0;
+constexpr int exit_findings = 1;
+constexpr int exit_unusable = 2;
+
+struct AuditArgs {
+  std::string input;
+  std::string target_crs;
+  std::string source_crs = "EPSG:4326";
+  double height_m = 0;
+  std::string tolerance;
+  double densify_tolerance_m = 0.001;
+  std::string id_field;
+  std::string wkt_field = "wkt";
+  std::string out;
+  std::string summary;
+  std::string units = "metric";
+  std::string format = "auto";
+};
+
+/// One line on standard error: the reason the run could not go on.
+int fail_run(const std::string& reason) {
+  std::cerr << "gridtruth: " << reason << "\n";
+  return exit_unusable;
+}
+
+/// "Progress" on standard error, only for a terminal and only once the run has taken more than a second.
+class Progress {
+ public:
+  Progress() : enabled_(isatty(STDERR_FILENO) == 1), start_(std::chrono::steady_clock::now()) {}
+  void update(std::size_t features, std::uint64_t bytes) {
+    if (!enabled_ || (features & 63) != 0) return;
+    const auto now = std::chrono::steady_clock::now();
+    if (now - start_ < std::chrono::seconds(1) || now - last_ < std::chrono::milliseconds(250)) return;
+    last_ = now;
+    const double seconds = std::chrono::duration<double>(now - start_).count();
+    std::fprintf(stderr, "\r  %zu features audited, %.1f MB read, %.0f s", features,
+                 static_cast<double>(bytes) / 1e6, seconds);
+    std::fflush(stderr);
+    shown_ = true;
+  }
+  void finish() {
+    if (shown_) std::fprintf(stderr, "\r%60s\r", "");
+    shown_ = false;
+  }
+
+ private:
+  bool enabled_;
+  bool shown_ = false;
+  std::chrono::steady_clock::time_point start_, last_{};
+};
+
+std::string failed_text(const AuditResult& r) {
+  std::string text;
+  for (const auto& f : r.failed) text += (text.empty() ? "exceeds " : ", ") + f;
+  return text;
+}
+
+int run_audit(const AuditArgs& args) {
+  // Options first: nothing is read before they all make sense.
+  if (!std::isfinite(args.height_m)) return fail_run("--height must be a finite number of metres");
+  if (!(args.densify_tolerance_m > 0) || !std::isfinite(args.densify_tolerance_m))
+    return fail_run("--densify-tolerance must be a positive number of metres");
+  if (args.wkt_field.empty()) return fail_run("--wkt-field must name a column");
+
+  AuditOptions options;
+  options.source_crs = args.source_crs;
+  options.target_crs = args.target_crs;
+  options.height_m = args.height_m;
+  options.densify_tolerance_m = args.densify_tolerance_m;
+  cli::SummaryUnits units;
+  ReaderOptions reader_options;
+  try {
+    options.tolerances = Tolerance::parse_list(args.tolerance);
+    units = cli::summary_units(args.units);
+    reader_options.format = parse_input_format(args.format);
+  } catch (const Error& e) {
+    return fail_run(e.what());
+  }
+  reader_options.id_field = args.id_field;
+  reader_options.wkt_field = args.wkt_field;
+
+  std::optional<Auditor> auditor;
+  try {
+    auditor.emplace(options);
+  } catch (const Error& e) {
+    return fail_run(e.what());
+  } catch (const std::exception& e) {
+    return fail_run(std::string("cannot set up the audit: ") + e.what());
+  }
+
+  std::optional<FeatureReader> reader;
+  try {
+    reader.emplace(args.input, reader_options);
+  } catch (const Error& e) {
+    return fail_run(e.what());
+  }
+
+  std::ofstream out_file;
+  std::ostream* out = &std::cout;
+  if (!args.out.empty()) {
+    out_file.open(args.out, std::ios::binary | std::ios::trunc);
+    if (!out_file) return fail_run("cannot write " + args.out);
+    out = &out_file;
+  }
+
+  // Read the first feature before writing anything, so that an unreadable input leaves no output behind.
+  std::optional<InputFeature> feature;
+  try {
+    feature = reader->next();
+  } catch (const Error& e) {
+    return fail_run((args.input == "-" ? std::string("standard input") : args.input) + ": " + e.what());
+  }
+
+  ResultCsvWriter writer(*out);
+  writer.write_header();
+  cli::AuditSummary summary;
+  Progress progress;
+  try {
+    while (feature) {
+      if (feature->geometry) {
+        AuditResult result = auditor->audit(*feature->geometry);
+        if (!result.failed.empty())
+          result.message += (result.message.empty() ? "" : "; ") + failed_text(result);
+        writer.write_row(feature->id, result);
+        summary.add(*feature, result);
+      } else {
+        writer.write_unread_row(feature->id, feature->error, feature->declared_type);
+        summary.add_unread(*feature);
+      }
+      progress.update(summary.read(), reader->bytes_read());
+      feature = reader->next();
+    }
+  } catch (const Error& e) {
+    progress.finish();
+    out->flush();
+    return fail_run((args.input == "-" ? std::string("standard input") : args.input) + ": " + e.what() + " (" +
+                    std::to_string(summary.read()) + " feature rows were written before it)");
+  }
+  progress.finish();
+  out->flush();
+  if (!*out) return fail_run("could not write the CSV output" + (args.out.empty() ? "" : " to " + args.out));
+
+  const cli::AuditSummary::Context context{args.input == "-" ? "standard input" : args.input, reader->format(),
+                                           &*auditor, units};
+  if (!args.summary.empty()) {
+    std::ofstream js(args.summary, std::ios::binary | std::ios::trunc);
+    js << summary.to_json(context).dump(2) << "\n";
+    if (!js) return fail_run("cannot write " + args.summary);
+  }
+  std::cerr << summary.to_text(context);
+  if (summary.read() == 0) std::cerr << "  note: the input holds no features\n";
+  return summary.exit_status() == 0 ? exit_ok : exit_findings;
+}
+
+const char* audit_description =
+    "Audits every feature of INPUT against the grid of the projected CRS TARGET: the true (geodesic) length and\n"
+    "area on the ellipsoid, the same measured on the grid, and the error between them split into its parts\n"
+    "(straight edges, projection scale, datum change, height), with distortion statistics and a pass/fail\n"
+    "verdict against the tolerances. One CSV row per input feature, in input order, on standard output or\n"
+    "--out; a summary on standard error and, with --summary, as JSON.";
+
+const char* audit_footer =
+    "\nInput formats:\n"
+    "  geojson   a FeatureCollection, a Feature or a bare geometry (RFC 7946); coordinates are longitude,\n"
+    "            latitude in the source CRS.\n"
+    "  ndjson    one GeoJSON Feature per line; RFC 8142 record separators (0x1E) are accepted.\n"
+    "  csv       RFC 4180 CSV with a header line; geometry as WKT in the --wkt-field column.\n"
+    "  auto      guessed from the first bytes (also for '-', standard input).\n"
+    "Feature id: the GeoJSON feature \"id\", else the --id-field property or column, else the 1-based position.\n"
+    "\n"
+    "Tolerances (--tolerance, comma-separated metric=limit):\n"
+    "  area=0.1%   length=100ppm   length=1:10000   area=50m2   area=0.5ha   length=0.05m   bearing=20arcsec\n"
+    "  A feature passes when every tolerance that applies to it holds; no tolerance, no verdict.\n"
+    "\n"
+    "CSV columns (metres, square metres, degrees, arcseconds; empty where a value does not apply):\n"
+    "  id, geometry_type, status (ok | invalid | unmeasurable), message, vertices,\n"
+    "  true_length_m, grid_length_m, length_error_m, length_error_ppm, length_from_edges_m,\n"
+    "  length_from_scale_m, length_from_datum_m, length_from_height_m,\n"
+    "  true_area_m2, grid_area_m2, area_error_m2, area_error_ppm, area_from_edges_m2, area_from_scale_m2,\n"
+    "  area_from_datum_m2, area_from_height_m2, scale_min, scale_max, areal_scale_min, areal_scale_max,\n"
+    "  angular_distortion_max_deg, convergence_min_deg, convergence_max_deg, bearing_error_max_arcsec, verdict\n"
+    "  error = grid - true = from_edges + from_scale + from_datum + from_height; '+' means the grid overstates.\n"
+    "  A polygon's length is its perimeter (all rings).\n"
+    "\n"
+    "Summary units (--units; the CSV stays in SI units):\n"
+    "  metric           m, m2\n"
+    "  hectare          m, ha (10 000 m2)\n"
+    "  acre             international foot (0.3048 m), international acre (4 046.856 422 4 m2)\n"
+    "  us-survey-acre   US survey foot (1200/3937 m), US survey acre (4 046.872 609 874 m2)\n"
+    "\n"
+    "Exit status:\n"
+    "  0  every feature is ok and none fails a tolerance\n"
+    "  1  some feature fails a tolerance, or is invalid or unmeasurable\n"
+    "  2  nothing could be audited: a bad option, an unreadable input, an unknown CRS (one-line reason)\n"
+    "\n"
+    "Examples:\n"
+    "  gridtruth audit parcels.geojson --crs EPSG:32615 --tolerance area=0.1%\n"
+    "  gridtruth audit route.csv --wkt-field geom --id-field route_id --crs EPSG:26915 \\\n"
+    "      --tolerance length=1:10000,bearing=20arcsec --height 350 --out route_audit.csv\n"
+    "  gridtruth audit units.geojson --crs EPSG:5070 --units acre --summary summary.json > rows.csv\n"
+    "  cat features.ndjson | gridtruth audit - --format ndjson --crs \"+proj=utm +zone=15 +datum=WGS84\"\n"
+    "\n";
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  std::ios::sync_with_stdio(false);
+  CLI::App app{"gridtruth: how wrong do lengths and areas become on the grid of a projected CRS?"};
+  app.name("gridtruth");
+  app.set_version_flag("--version", std::string("gridtruth ") + GRIDTRUTH_VERSION);
+  app.require_subcommand(1);
+  app.footer(std::string("\nRun 'gridtruth audit --help' for the audit command.\n\n") + cli::caution_text + "\n");
+
+  AuditArgs args;
+  CLI::App* audit = app.add_subcommand("audit", audit_description);
+  audit->add_option("INPUT", args.input, "GeoJSON, newline-delimited GeoJSON or CSV with WKT; '-' for standard input")
+      ->required();
+  audit->add_option("--crs", args.target_crs, "target projected CRS: EPSG:XXXX, WKT, PROJJSON or a PROJ string")
+      ->required();
+  audit->add_option("--source-crs", args.source_crs, "geographic CRS of the input coordinates (longitude, latitude)")
+      ->capture_default_str();
+  audit->add_option("--height", args.height_m, "ellipsoidal height of the features in metres (ground lift)")
+      ->capture_default_str();
+  audit->add_option("--tolerance", args.tolerance, "comma-separated limits, e.g. area=0.1%,length=1:10000");
+  audit->add_option("--densify-tolerance", args.densify_tolerance_m,
+                    "largest planar deviation of a densified edge from the true edge, metres")
+      ->capture_default_str();
+  audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
+  audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
+  audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");
+  audit->add_option("--summary", args.summary, "also write the summary to this file as JSON");
+  audit->add_option("--units", args.units, "units of the summary's totals")
+      ->check(CLI::IsMember(cli::summary_unit_names()))
+      ->capture_default_str();
+  audit->add_option("--format", args.format, "input format")
+      ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv"}))
+      ->capture_default_str();
+  audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    std::string what = e.what();
+    for (auto& c : what)
+      if (c == '\n') c = ' ';
+    return fail_run(what + " (see 'gridtruth " + (app.got_subcommand(audit) ? "audit " : "") + "--help')");
+  }
+  if (app.got_subcommand(audit)) {
+    try {
+      return run_audit(args);
+    } catch (const std::exception& e) {
+      return fail_run(std::string("internal error: ") + e.what());
+    }
+  }
+  return fail_run("no command given (see 'gridtruth --help')");
+}
