@@ -2,7 +2,7 @@
 
 #include <GeographicLib/Geodesic.hpp>
 #include <GeographicLib/GeodesicLine.hpp>
-#include <GeographicLib/PolygonArea.hpp>
+#include <GeographicLib/Accumulator.hpp>
 
 #include <algorithm>
 #include <cmath>
@@ -55,12 +55,30 @@ class CompensatedSum {
 
 double cross(double ax, double ay, double bx, double by) noexcept { return ax * by - ay * bx; }
 
-/// Angle difference a − b in degrees, reduced to [−180, 180).
-double angle_diff_deg(double a, double b) noexcept {
-  double d = std::remainder(a - b, 360.0);
-  if (d >= 180) d -= 360;
-  return d;
-}
+/// The largest angle between grid chords (dx, dy) and geodesic start directions (sin α, cos α), without an
+/// arctangent per edge: the angle's size is ordered by a monotone key, and only the largest is converted.
+class BearingExtreme {
+ public:
+  void add(double dx, double dy, double sin_azimuth, double cos_azimuth) noexcept {
+    const double across = dx * cos_azimuth - dy * sin_azimuth;  // |v| sin θ
+    const double along = dx * sin_azimuth + dy * cos_azimuth;   // |v| cos θ
+    const double norm = std::hypot(across, along);
+    if (!(norm > 0)) return;
+    const double s = std::fabs(across) / norm;
+    const double key = along >= 0 ? s : 2 - s;  // increases with |θ| over [0°, 180°]
+    if (key > key_) {
+      key_ = key;
+      across_ = across;
+      along_ = along;
+    }
+  }
+  double largest_deg() const noexcept {
+    return key_ < 0 ? 0.0 : std::fabs(std::atan2(across_, along_)) * 180 / M_PI;
+  }
+
+ private:
+  double key_ = -1, across_ = 0, along_ = 1;
+};
 
 bool finite(const Coord& c) noexcept { return std::isfinite(c.x) && std::isfinite(c.y); }
 
@@ -89,21 +107,70 @@ std::vector<Coord> clean_path(const Path& path, bool ring) {
   return out;
 }
 
-/// Length (and, for a ring, signed area) of one path on an ellipsoid, by GeographicLib.
-struct EllipsoidMeasure {
+/// +1 when the edge from lon1 to lon2 (the shorter way round) crosses the prime meridian eastwards, −1 westwards,
+/// 0 otherwise; longitude +0 counts as east of the meridian. The parity of the sum over a ring tells whether the
+/// ring encircles a pole (Karney 2013, sec. 6).
+int prime_meridian_crossing(double lon1_deg, double lon2_deg) noexcept {
+  const double d = GeographicLib::Math::AngDiff(lon1_deg, lon2_deg);
+  double start = std::remainder(lon1_deg, 360.0);  // [−180, 180]
+  if (start >= 180) start -= 360;                  // [−180, 180)
+  const double end = start + d;
+  if (d > 0 && start < 0 && end >= 0) return 1;
+  if (d < 0 && start >= 0 && end < 0) return -1;
+  return 0;
+}
+
+/// One geodesic inverse per edge on an ellipsoid gives the path's length, a ring's signed area (counter-clockwise
+/// positive, in (−A/2, A/2] for an ellipsoid of area A, as GeographicLib's PolygonArea) and each edge's start
+/// azimuth and length for densification and bearings.
+struct EllipsoidWalk {
   double length_m = 0;
   double signed_area_m2 = 0;
+  std::vector<double> azimuth_deg;  // at the start of each edge
+  std::vector<double> sin_azimuth, cos_azimuth;
+  std::vector<double> edge_m;  // geodesic length of each edge
 };
 
-EllipsoidMeasure measure_on_ellipsoid(const GeographicLib::Geodesic& geod, const std::vector<Coord>& lonlat,
-                                      bool closed) {
-  GeographicLib::PolygonArea poly(geod, !closed);
-  for (const Coord& c : lonlat) poly.AddPoint(c.y, c.x);
-  EllipsoidMeasure m;
-  double area = 0;
-  poly.Compute(false, true, m.length_m, area);
-  if (closed) m.signed_area_m2 = area;
-  return m;
+EllipsoidWalk walk_on_ellipsoid(const GeographicLib::Geodesic& geod, const std::vector<Coord>& lonlat,
+                                bool closed) {
+  EllipsoidWalk w;
+  const std::size_t n = lonlat.size();
+  const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
+  w.azimuth_deg.resize(edges);
+  w.sin_azimuth.resize(edges);
+  w.cos_azimuth.resize(edges);
+  w.edge_m.resize(edges);
+  const unsigned mask = GeographicLib::Geodesic::DISTANCE | GeographicLib::Geodesic::AZIMUTH |
+                        (closed ? unsigned(GeographicLib::Geodesic::AREA) : 0U);
+  GeographicLib::Accumulator<> length, area;  // double-double sums
+  int crossings = 0;
+  for (std::size_t e = 0; e < edges; ++e) {
+    const Coord& a = lonlat[e];
+    const Coord& b = lonlat[(e + 1) % n];
+    double s12 = 0, azi1 = 0, azi2 = 0, m12 = 0, mm12 = 0, mm21 = 0, area12 = 0;
+    geod.GenInverse(a.y, a.x, b.y, b.x, mask, s12, azi1, azi2, m12, mm12, mm21, area12);
+    length += s12;
+    w.azimuth_deg[e] = azi1;
+    GeographicLib::Math::sincosd(azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
+    w.edge_m[e] = s12;
+    if (closed) {
+      area += area12;
+      crossings += prime_meridian_crossing(a.x, b.x);
+    }
+  }
+  w.length_m = length();
+  if (closed && edges > 0) {
+    // The sum of S12 is the area to the south of the edges, clockwise positive; reduce it to the ring's area.
+    const double whole = geod.EllipsoidArea();
+    area.remainder(whole);
+    double ring = area();
+    if (crossings % 2 != 0) ring += (ring < 0 ? 0.5 : -0.5) * whole;  // the ring encircles a pole
+    ring = -ring;                                                       // counter-clockwise positive
+    if (ring > whole / 2) ring -= whole;
+    else if (ring <= -whole / 2) ring += whole;
+    w.signed_area_m2 = ring;
+  }
+  return w;
 }
 
 /// Twice the signed area of a ring in the plane, centred on its first vertex to keep precision.
@@ -173,6 +240,137 @@ Budget truth_only_budget(double reference, double e_s, double e_p) {
   return b;
 }
 
+/// Adaptive densification of one path's edges in the target plane (the D measure).
+///
+/// Each edge is the geodesic on the target's ellipsoid; its projected image is approximated piecewise by
+/// parabolas through the projected end points and midpoint of each piece, in geodesic distance. A piece is final
+/// when its projected midpoint lies within the tolerance of its chord, or when the parabola of the piece predicts
+/// the projected quarter points within 8 × the tolerance across the chord (then its two halves, each with its
+/// own midpoint, are final: their parabolas deviate from the image by about 1/8 of that residual, the cubic term
+/// scaling with length³); otherwise it is split. A final piece contributes the parabola's area (4/3 of the triangle on its chord,
+/// Archimedes) and length (Richardson extrapolation of the two-chord length), so D's error is well below the
+/// tolerance. A piece shorter than 1 mm that still deviates marks a tear (a discontinuity of the projection).
+class PathDensifier {
+ public:
+  PathDensifier(const GeographicLib::Geodesic& geod, PJ* op, double tolerance_units, const WorkPath& path,
+                std::size_t path_index, std::vector<Coord>& samples, std::size_t& densified)
+      : geod_(geod), op_(op), tolerance_(tolerance_units), path_(path), path_index_(path_index),
+        samples_(samples), densified_(densified), origin_(path.xy.front()) {}
+
+  /// Densifies edge e → j that starts with the azimuth azimuth_deg and is edge_m long; returns a failure message.
+  std::string edge(std::size_t e, std::size_t j, double azimuth_deg, double edge_m) {
+    const Coord& a = path_.lonlat_p[e];
+    line_ = geod_.Line(a.y, a.x, azimuth_deg,
+                       GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
+                           GeographicLib::Geodesic::DISTANCE_IN);
+    edge_index_ = e;
+    Coord pm;
+    if (!point_at(0.5 * edge_m, pm)) return failure("cannot be projected to the target CRS");
+    stack_.assign(1, Piece{0.0, edge_m, path_.xy[e], path_.xy[j], pm});
+    while (!stack_.empty()) {
+      const Piece piece = stack_.back();
+      stack_.pop_back();
+      if (deviation(piece.p0, piece.pm, piece.p1) <= tolerance_) {
+        accept(piece.p0, piece.pm, piece.p1);
+        continue;
+      }
+      if (piece.s1 - piece.s0 < 1e-3) {
+        return failure("tears when projected (it crosses a discontinuity of the target CRS, such as its "
+                       "antimeridian or an interruption)");
+      }
+      const double sm = 0.5 * (piece.s0 + piece.s1);
+      Coord q1, q3;
+      if (!point_at(0.5 * (piece.s0 + sm), q1) || !point_at(0.5 * (sm + piece.s1), q3)) {
+        return failure("cannot be projected to the target CRS");
+      }
+      if (densified_ > kMaxPoints) return "densification exceeded " + std::to_string(kMaxPoints) + " points";
+      // Lagrange prediction of the quarter points by the piece's parabola.
+      const Coord pred1{0.375 * piece.p0.x + 0.75 * piece.pm.x - 0.125 * piece.p1.x,
+                        0.375 * piece.p0.y + 0.75 * piece.pm.y - 0.125 * piece.p1.y};
+      const Coord pred3{-0.125 * piece.p0.x + 0.75 * piece.pm.x + 0.375 * piece.p1.x,
+                        -0.125 * piece.p0.y + 0.75 * piece.pm.y + 0.375 * piece.p1.y};
+      // Only the part across the chord changes the shape; along it the parabola is merely reparametrised.
+      const double cx = piece.p1.x - piece.p0.x, cy = piece.p1.y - piece.p0.y;
+      const double c = std::hypot(cx, cy);
+      const double residual =
+          c > 0 ? std::max(std::fabs(cross(cx, cy, q1.x - pred1.x, q1.y - pred1.y)),
+                           std::fabs(cross(cx, cy, q3.x - pred3.x, q3.y - pred3.y))) / c
+                : std::numeric_limits<double>::infinity();
+      if (residual <= kCubic * tolerance_ && deviation(piece.p0, q1, piece.pm) <= kSmooth * chord(piece.p0, piece.pm) &&
+          deviation(piece.pm, q3, piece.p1) <= kSmooth * chord(piece.pm, piece.p1)) {
+        accept(piece.p0, q1, piece.pm);
+        accept(piece.pm, q3, piece.p1);
+        continue;
+      }
+      stack_.push_back({sm, piece.s1, piece.pm, piece.p1, q3});
+      stack_.push_back({piece.s0, sm, piece.p0, piece.pm, q1});
+    }
+    return {};
+  }
+
+  double length_units() const { return length_.value(); }
+  double area2_units() const { return area2_.value(); }
+
+ private:
+  struct Piece {
+    double s0, s1;
+    Coord p0, p1, pm;
+  };
+  static constexpr std::size_t kMaxPoints = 4'000'000;
+  static constexpr double kSmooth = 0.25;  // a smooth image stays near its chord relative to the chord's length
+  // The residual of a piece's parabola at its quarter points is the image's cubic term; the parabolas of its two
+  // halves (through the quarter points) then deviate by about 1/8 of it (the cubic term scales with length³).
+  static constexpr double kCubic = 8;
+
+  static double chord(const Coord& p0, const Coord& p1) { return std::hypot(p1.x - p0.x, p1.y - p0.y); }
+
+  /// How far pm is from where a smooth image would put it: its distance from the chord p0p1, or — when it sits
+  /// far from the chord's middle along the chord (a jump in the image) — infinity.
+  static double deviation(const Coord& p0, const Coord& pm, const Coord& p1) {
+    const double cx = p1.x - p0.x, cy = p1.y - p0.y;
+    const double dx = pm.x - 0.5 * (p0.x + p1.x), dy = pm.y - 0.5 * (p0.y + p1.y);
+    const double c2 = cx * cx + cy * cy;
+    if (c2 == 0) return std::hypot(dx, dy);
+    if (std::fabs(cx * dx + cy * dy) >= kSmooth * c2) return std::numeric_limits<double>::infinity();
+    return std::fabs(cross(cx, cy, dx, dy)) / std::sqrt(c2);
+  }
+
+  bool point_at(double s, Coord& xy) {
+    double lat = 0, lon = 0;
+    line_.Position(s, lat, lon);
+    const PJ_COORD out = proj_trans(op_, PJ_FWD, proj_coord(lon, lat, 0, 0));
+    xy = {out.xy.x, out.xy.y};
+    samples_.push_back({lon, lat});
+    ++densified_;
+    return finite(xy);
+  }
+
+  void accept(const Coord& p0, const Coord& pm, const Coord& p1) {
+    const double c = chord(p0, p1);
+    length_.add((4 * (chord(p0, pm) + chord(pm, p1)) - c) / 3);
+    if (!path_.closed()) return;
+    area2_.add(cross(p0.x - origin_.x, p0.y - origin_.y, p1.x - origin_.x, p1.y - origin_.y));
+    area2_.add(4.0 / 3.0 * cross(pm.x - p0.x, pm.y - p0.y, p1.x - p0.x, p1.y - p0.y));
+  }
+
+  std::string failure(const std::string& what) const {
+    return "edge " + std::to_string(edge_index_ + 1) + " of part " + std::to_string(path_index_ + 1) + " " + what;
+  }
+
+  const GeographicLib::Geodesic& geod_;
+  PJ* op_;
+  double tolerance_;
+  const WorkPath& path_;
+  std::size_t path_index_;
+  std::vector<Coord>& samples_;
+  std::size_t& densified_;
+  Coord origin_;
+  GeographicLib::GeodesicLine line_;
+  std::size_t edge_index_ = 0;
+  std::vector<Piece> stack_;
+  CompensatedSum length_, area2_;
+};
+
 }  // namespace
 
 struct Auditor::Impl {
@@ -183,6 +381,7 @@ struct Auditor::Impl {
   detail::Context ctx;
   Pj op_proj;  // target's base geographic CRS (lon, lat degrees) → target plane (easting, northing)
   Pj op_full;  // source (lon, lat degrees) → target plane, through the datum transformation; null when identity
+  Pj op_fast;  // the same as op_proj, rebuilt from its PROJ pipeline string (no CRS wrapper): faster per point
   GeographicLib::Geodesic geod_s{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   GeographicLib::Geodesic geod_p{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   double unit_m = 1;
@@ -193,15 +392,15 @@ struct Auditor::Impl {
   std::unique_ptr<Impl> clone() const;
 
   AuditResult audit(const Geometry& g) const;
-  PointFactors factors_p(double lon_p, double lat_p) const;
+  PointFactors factors_p(double lon_p, double lat_p) const { return factors_batch({{lon_p, lat_p}}).front(); }
 
  private:
   // Fills lonlat_p and xy of every path and point; returns an error message when a vertex fails.
   std::string transform_vertices(std::vector<WorkPath>& paths, std::vector<Coord>& points_lonlat_p,
                                  std::vector<Coord>& points_xy, const std::vector<Coord>& points_s) const;
   bool transform_array(PJ* op, PJ_DIRECTION dir, std::vector<Coord>& pts) const;
-  void accumulate_factors(const std::vector<Coord>& lonlat_p, Extremes& scale_b, Extremes& scale_a,
-                          Extremes& areal, Extremes& omega, Extremes& conv) const;
+  std::vector<PointFactors> factors_batch(const std::vector<Coord>& lonlat_p) const;
+  std::optional<Distortion> distortion_over(const std::vector<Coord>& samples) const;
   std::string outside_area_warning(const std::vector<WorkPath>& paths, const std::vector<Coord>& points) const;
   void apply_verdict(AuditResult& r) const;
 };
@@ -244,6 +443,10 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
                   "cannot build the projection of '" + o.target_crs + "': " + detail::last_error(c));
     }
   }
+  if (const char* pipeline = proj_as_proj_string(c, op_proj.get(), PJ_PROJ_5, nullptr)) {
+    op_fast.reset(proj_create(c, pipeline));
+  }
+  if (!op_fast) op_fast.reset(proj_clone(c, op_proj.get()));
   const bool target_is_bound = proj_get_type(tgt.get()) == PJ_TYPE_BOUND_CRS;
   const bool same = !target_is_bound &&
                     proj_is_equivalent_to_with_ctx(c, src_h.get(), geog_p.get(),
@@ -289,11 +492,12 @@ std::unique_ptr<Auditor::Impl> Auditor::Impl::clone() const {
   copy->ctx = detail::make_context();
   copy->op_proj.reset(proj_clone(copy->ctx.get(), op_proj.get()));
   if (op_full) copy->op_full.reset(proj_clone(copy->ctx.get(), op_full.get()));
+  copy->op_fast.reset(proj_clone(copy->ctx.get(), op_fast.get()));
   copy->geod_s = geod_s;
   copy->geod_p = geod_p;
   copy->unit_m = unit_m;
   copy->tolerance_units = tolerance_units;
-  if (!copy->op_proj || (op_full && !copy->op_full)) {
+  if (!copy->op_proj || !copy->op_fast || (op_full && !copy->op_full)) {
     throw Error(ErrorCode::no_transformation, "cannot clone the PROJ operations");
   }
   return copy;
@@ -336,51 +540,79 @@ std::string Auditor::Impl::transform_vertices(std::vector<WorkPath>& paths, std:
   return one(points_s, points_lonlat_p, points_xy, "a point");
 }
 
-PointFactors Auditor::Impl::factors_p(double lon_p, double lat_p) const {
+std::vector<PointFactors> Auditor::Impl::factors_batch(const std::vector<Coord>& lonlat_p) const {
   // Central differences of the projection with a step of 1e-4 degrees (about 11 m): truncation error about
-  // 1e-12 and rounding error about 1e-10 relative for coordinates of 10⁷ m.
+  // 1e-12 and rounding error about 1e-10 relative for coordinates of 10⁷ m. All points go through PROJ at once.
   constexpr double step_deg = 1e-4;
-  const double lat = std::clamp(lat_p, -90 + 2 * step_deg, 90 - 2 * step_deg);
-  std::vector<Coord> pts = {{lon_p + step_deg, lat}, {lon_p - step_deg, lat}, {lon_p, lat + step_deg},
-                            {lon_p, lat - step_deg}};
-  PointFactors f{kNaN, kNaN, kNaN, kNaN, kNaN, kNaN, kNaN};
-  if (!transform_array(op_proj.get(), PJ_FWD, pts)) return f;
-  const double step_rad = 2 * step_deg * kDegToRad;
-  const double x_lam = (pts[0].x - pts[1].x) * unit_m / step_rad;
-  const double y_lam = (pts[0].y - pts[1].y) * unit_m / step_rad;
-  const double x_phi = (pts[2].x - pts[3].x) * unit_m / step_rad;
-  const double y_phi = (pts[2].y - pts[3].y) * unit_m / step_rad;
+  std::vector<Coord> pts;
+  pts.reserve(4 * lonlat_p.size());
+  for (const Coord& c : lonlat_p) {
+    const double lat = std::clamp(c.y, -90 + 2 * step_deg, 90 - 2 * step_deg);
+    pts.insert(pts.end(), {{c.x + step_deg, lat}, {c.x - step_deg, lat}, {c.x, lat + step_deg}, {c.x, lat - step_deg}});
+  }
+  if (!pts.empty()) {
+    proj_trans_generic(op_fast.get(), PJ_FWD, &pts[0].x, sizeof(Coord), pts.size(), &pts[0].y, sizeof(Coord),
+                       pts.size(), nullptr, 0, 0, nullptr, 0, 0);
+  }
   const double e2 = target.ellipsoid.f * (2 - target.ellipsoid.f);
-  const double sphi = std::sin(lat * kDegToRad), cphi = std::cos(lat * kDegToRad);
-  const double w2 = 1 - e2 * sphi * sphi;
-  const double m = target.ellipsoid.a_m * (1 - e2) / (w2 * std::sqrt(w2));
-  const double n = target.ellipsoid.a_m / std::sqrt(w2);
-  // Snyder (1987) eqs. 4-9 to 4-14 (Tissot's indicatrix from the partial derivatives).
-  const double h = std::hypot(x_phi, y_phi) / m;
-  const double k = std::hypot(x_lam, y_lam) / (n * cphi);
-  const double s = std::fabs(x_lam * y_phi - x_phi * y_lam) / (m * n * cphi);
-  const double ap = std::sqrt(std::max(0.0, h * h + k * k + 2 * s));
-  const double bp = std::sqrt(std::max(0.0, h * h + k * k - 2 * s));
-  f.meridional_scale = h;
-  f.parallel_scale = k;
-  f.areal_scale = s;
-  f.tissot_a = (ap + bp) / 2;
-  f.tissot_b = (ap - bp) / 2;
-  f.angular_distortion_deg = ap > 0 ? 2 * std::asin(std::min(1.0, bp / ap)) / kDegToRad : kNaN;
-  f.convergence_deg = -std::atan2(x_phi, y_phi) / kDegToRad;
-  return f;
+  const double step_rad = 2 * step_deg * kDegToRad;
+  std::vector<PointFactors> out(lonlat_p.size(), PointFactors{kNaN, kNaN, kNaN, kNaN, kNaN, kNaN, kNaN});
+  for (std::size_t i = 0; i < lonlat_p.size(); ++i) {
+    const Coord* q = &pts[4 * i];
+    if (!finite(q[0]) || !finite(q[1]) || !finite(q[2]) || !finite(q[3])) continue;
+    const double lat = std::clamp(lonlat_p[i].y, -90 + 2 * step_deg, 90 - 2 * step_deg);
+    const double x_lam = (q[0].x - q[1].x) * unit_m / step_rad;
+    const double y_lam = (q[0].y - q[1].y) * unit_m / step_rad;
+    const double x_phi = (q[2].x - q[3].x) * unit_m / step_rad;
+    const double y_phi = (q[2].y - q[3].y) * unit_m / step_rad;
+    const double sphi = std::sin(lat * kDegToRad), cphi = std::cos(lat * kDegToRad);
+    const double w2 = 1 - e2 * sphi * sphi;
+    const double m = target.ellipsoid.a_m * (1 - e2) / (w2 * std::sqrt(w2));  // meridian radius of curvature
+    const double n = target.ellipsoid.a_m / std::sqrt(w2);                      // prime-vertical radius
+    // Snyder (1987) eqs. 4-9 to 4-14: Tissot's indicatrix from the partial derivatives.
+    const double h = std::hypot(x_phi, y_phi) / m;
+    const double k = std::hypot(x_lam, y_lam) / (n * cphi);
+    const double s = std::fabs(x_lam * y_phi - x_phi * y_lam) / (m * n * cphi);
+    const double ap = std::sqrt(std::max(0.0, h * h + k * k + 2 * s));
+    const double bp = std::sqrt(std::max(0.0, h * h + k * k - 2 * s));
+    PointFactors& f = out[i];
+    f.meridional_scale = h;
+    f.parallel_scale = k;
+    f.areal_scale = s;
+    f.tissot_a = (ap + bp) / 2;
+    f.tissot_b = (ap - bp) / 2;
+    f.angular_distortion_deg = ap > 0 ? 2 * std::asin(std::min(1.0, bp / ap)) / kDegToRad : kNaN;
+    f.convergence_deg = -std::atan2(x_phi, y_phi) / kDegToRad;
+  }
+  return out;
 }
 
-void Auditor::Impl::accumulate_factors(const std::vector<Coord>& lonlat_p, Extremes& scale_b, Extremes& scale_a,
-                                       Extremes& areal, Extremes& omega, Extremes& conv) const {
-  for (const Coord& c : lonlat_p) {
-    const PointFactors f = factors_p(c.x, c.y);
+std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord>& samples) const {
+  // Every vertex and densified point when there are at most kMaxSamples; otherwise the points extreme in
+  // longitude and latitude plus evenly spaced others (the scale field varies smoothly over a feature).
+  constexpr std::size_t kMaxSamples = 64;
+  std::vector<Coord> chosen;
+  if (samples.size() <= kMaxSamples) {
+    chosen = samples;
+  } else {
+    auto by_x = std::minmax_element(samples.begin(), samples.end(),
+                                    [](const Coord& a, const Coord& b) { return a.x < b.x; });
+    auto by_y = std::minmax_element(samples.begin(), samples.end(),
+                                    [](const Coord& a, const Coord& b) { return a.y < b.y; });
+    chosen = {*by_x.first, *by_x.second, *by_y.first, *by_y.second};
+    const std::size_t rest = kMaxSamples - chosen.size();
+    for (std::size_t k = 0; k < rest; ++k) chosen.push_back(samples[k * samples.size() / rest]);
+  }
+  Extremes scale_b, scale_a, areal, omega, conv;
+  for (const PointFactors& f : factors_batch(chosen)) {
     scale_b.add(f.tissot_b);
     scale_a.add(f.tissot_a);
     areal.add(f.areal_scale);
     omega.add(f.angular_distortion_deg);
     conv.add(f.convergence_deg);
   }
+  if (scale_b.empty()) return std::nullopt;
+  return Distortion{scale_b.lo, scale_a.hi, areal.lo, areal.hi, omega.hi, conv.lo, conv.hi};
 }
 
 std::string Auditor::Impl::outside_area_warning(const std::vector<WorkPath>& paths,
@@ -465,14 +697,16 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
   const bool has_length = !paths.empty();
   const bool has_area = g.type == GeometryType::polygon || g.type == GeometryType::multi_polygon;
 
-  // 2. Truth on the source ellipsoid (E_S), lifted to the ground (R).
+  // 2. Truth on the source ellipsoid (E_S), lifted to the ground (R): one geodesic inverse per edge, whose
+  //    azimuth and length are reused below when the target shares the source's datum and ellipsoid.
+  std::vector<EllipsoidWalk> walk_s(paths.size());
   CompensatedSum length_s, lat_sum;
   std::vector<double> area_s(paths.size(), 0.0);
   std::size_t lat_count = 0;
   for (std::size_t i = 0; i < paths.size(); ++i) {
-    const EllipsoidMeasure m = measure_on_ellipsoid(geod_s, paths[i].lonlat_s, paths[i].closed());
-    length_s.add(m.length_m);
-    area_s[i] = m.signed_area_m2;
+    walk_s[i] = walk_on_ellipsoid(geod_s, paths[i].lonlat_s, paths[i].closed());
+    length_s.add(walk_s[i].length_m);
+    area_s[i] = walk_s[i].signed_area_m2;
     for (const Coord& c : paths[i].lonlat_s) lat_sum.add(c.y), ++lat_count;
   }
   for (const Coord& c : points_s) lat_sum.add(c.y), ++lat_count;
@@ -498,15 +732,19 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
   }
 
   // 4. E_P: the same measures on the target's ellipsoid after the datum transformation.
+  std::vector<EllipsoidWalk> walk_p_own;
+  const std::vector<EllipsoidWalk>* walk_p = &walk_s;
   double e_p_length = e_s_length, e_p_area = e_s_area;
   if (op_full) {
+    walk_p_own.resize(paths.size());
     CompensatedSum length_p;
     std::vector<double> area_p(paths.size(), 0.0);
     for (std::size_t i = 0; i < paths.size(); ++i) {
-      const EllipsoidMeasure m = measure_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
-      length_p.add(m.length_m);
-      area_p[i] = m.signed_area_m2;
+      walk_p_own[i] = walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
+      length_p.add(walk_p_own[i].length_m);
+      area_p[i] = walk_p_own[i].signed_area_m2;
     }
+    walk_p = &walk_p_own;
     e_p_length = length_p.value();
     e_p_area = has_area ? polygon_area(paths, area_p) : 0;
   }
@@ -515,97 +753,33 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
   CompensatedSum g_length, d_length;
   std::vector<double> g_area2(paths.size(), 0.0), d_area2(paths.size(), 0.0);
   std::vector<Coord> samples = points_p;
-  double bearing_max_deg = 0;
+  BearingExtreme bearing;
   std::size_t densified = 0;
-  constexpr std::size_t max_points = 4'000'000;
   for (std::size_t i = 0; i < paths.size(); ++i) {
     const WorkPath& path = paths[i];
+    const EllipsoidWalk& walk = (*walk_p)[i];
     g_length.add(planar_length(path.xy, path.closed()));
     if (path.closed()) g_area2[i] = planar_area2(path.xy);
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
-
-    const Coord origin = path.xy.front();
-    CompensatedSum length_units, area2_units;
+    PathDensifier densifier(geod_p, op_fast.get(), tolerance_units, path, i, samples, densified);
     for (std::size_t e = 0; e < path.edge_count(); ++e) {
       const std::size_t j = (e + 1) % path.lonlat_p.size();
-      const Coord& a = path.lonlat_p[e];
-      const Coord& b = path.lonlat_p[j];
-      const GeographicLib::GeodesicLine line =
-          geod_p.InverseLine(a.y, a.x, b.y, b.x, GeographicLib::Geodesic::LATITUDE |
-                                                     GeographicLib::Geodesic::LONGITUDE |
-                                                     GeographicLib::Geodesic::DISTANCE_IN |
-                                                     GeographicLib::Geodesic::AZIMUTH);
-      const Coord p0 = path.xy[e], p1 = path.xy[j];
+      const double azimuth = walk.azimuth_deg[e];
       // Bearing: grid bearing of the chord minus the geodesic azimuth at the start vertex.
-      const double grid_bearing = std::atan2(p1.x - p0.x, p1.y - p0.y) / kDegToRad;
-      bearing_max_deg = std::max(bearing_max_deg, std::fabs(angle_diff_deg(grid_bearing, line.Azimuth())));
-
-      // Depth-first refinement: a piece [s0, s1] whose projected midpoint lies within the tolerance of its chord
-      // is final and gets the parabolic correction; otherwise it is split at the midpoint.
-      struct Piece {
-        double s0, s1;
-        Coord p0, p1;
-      };
-      std::vector<Piece> stack{{0.0, line.Distance(), p0, p1}};
-      while (!stack.empty()) {
-        const Piece piece = stack.back();
-        stack.pop_back();
-        const double sm = 0.5 * (piece.s0 + piece.s1);
-        double lat = 0, lon = 0;
-        line.Position(sm, lat, lon);
-        PJ_COORD in = proj_coord(lon, lat, 0, 0);
-        const PJ_COORD out = proj_trans(op_proj.get(), PJ_FWD, in);
-        const Coord pm{out.xy.x, out.xy.y};
-        if (!finite(pm)) {
-          return fail("a point on edge " + std::to_string(e + 1) + " of part " + std::to_string(i + 1) +
-                          " cannot be projected to the target CRS",
-                      e_p_length, e_p_area);
-        }
-        samples.push_back({lon, lat});
-        if (++densified > max_points) {
-          return fail("densification exceeded " + std::to_string(max_points) + " points", e_p_length, e_p_area);
-        }
-        const double cx = piece.p1.x - piece.p0.x, cy = piece.p1.y - piece.p0.y;
-        const double chord = std::hypot(cx, cy);
-        const double dx = pm.x - 0.5 * (piece.p0.x + piece.p1.x), dy = pm.y - 0.5 * (piece.p0.y + piece.p1.y);
-        const double deviation = chord > 0 ? std::fabs(cross(cx, cy, dx, dy)) / chord : std::hypot(dx, dy);
-        // Along the chord the midpoint of a smooth image stays near the middle; far from it, the image jumps
-        // (a discontinuity of the projection) and the piece is split until the jump is isolated.
-        const double along = chord > 0 ? std::fabs(cx * dx + cy * dy) / (chord * chord) : 0.0;
-        if (deviation <= tolerance_units && along < 0.25) {
-          const double half = std::hypot(pm.x - piece.p0.x, pm.y - piece.p0.y) +
-                              std::hypot(piece.p1.x - pm.x, piece.p1.y - pm.y);
-          length_units.add((4 * half - chord) / 3);  // Richardson: arc length of the parabola through the three
-          if (path.closed()) {
-            area2_units.add(cross(piece.p0.x - origin.x, piece.p0.y - origin.y, piece.p1.x - origin.x,
-                                  piece.p1.y - origin.y));
-            // Parabolic segment = 4/3 of the triangle (Archimedes); twice the area here.
-            area2_units.add(4.0 / 3.0 * cross(pm.x - piece.p0.x, pm.y - piece.p0.y, cx, cy));
-          }
-          continue;
-        }
-        if (piece.s1 - piece.s0 < 1e-3) {
-          return fail("edge " + std::to_string(e + 1) + " of part " + std::to_string(i + 1) +
-                          " tears when projected (it crosses a discontinuity of the target CRS, such as its "
-                          "antimeridian or an interruption)",
-                      e_p_length, e_p_area);
-        }
-        stack.push_back({sm, piece.s1, pm, piece.p1});
-        stack.push_back({piece.s0, sm, piece.p0, pm});
+      bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, walk.sin_azimuth[e],
+                  walk.cos_azimuth[e]);
+      if (std::string why = densifier.edge(e, j, azimuth, walk.edge_m[e]); !why.empty()) {
+        return fail(why, e_p_length, e_p_area);
       }
     }
-    d_length.add(length_units.value());
-    if (path.closed()) d_area2[i] = area2_units.value();
+    d_length.add(densifier.length_units());
+    if (path.closed()) d_area2[i] = densifier.area2_units();
   }
   r.densified_points = densified;
 
-  // 6. Distortion statistics at the vertices, points and densified points.
-  Extremes scale_b, scale_a, areal, omega, conv;
-  accumulate_factors(samples, scale_b, scale_a, areal, omega, conv);
-  if (!scale_b.empty()) {
-    r.distortion = Distortion{scale_b.lo, scale_a.hi, areal.lo, areal.hi, omega.hi, conv.lo, conv.hi};
-  }
-  if (has_length) r.bearing_error_max_arcsec = bearing_max_deg * 3600;
+  // 6. Distortion statistics at the vertices, points and densified points (sampled on large features).
+  if (std::optional<Distortion> d = distortion_over(samples)) r.distortion = d;
+  if (has_length) r.bearing_error_max_arcsec = bearing.largest_deg() * 3600;
 
   // 7. The budget.
   const double unit2 = unit_m * unit_m;

@@ -48,8 +48,9 @@ struct Budget {
   double densified_grid = 0;
 };
 
-/// Distortion statistics over the vertices and densified points of a feature (from the projection's
-/// partial derivatives: Tissot's indicatrix).
+/// Distortion statistics over the vertices and densified points of a feature (Tissot's indicatrix from central
+/// differences of the projection, relative error about 1e-9). A feature with more than 64 such points is sampled:
+/// the points extreme in longitude and latitude plus 60 evenly spaced others.
 struct Distortion {
   double scale_min = 0;        ///< smallest Tissot semi-axis b
   double scale_max = 0;        ///< largest Tissot semi-axis a
