@@ -4,9 +4,10 @@
 set -euo pipefail
 packages=(
   build-essential cmake ninja-build pkg-config
-  libgeographiclib-dev libproj-dev proj-data proj-bin
+  libgeographiclib-dev libproj-dev proj-data proj-bin libtbb-dev
   libboost-dev libfmt-dev nlohmann-json3-dev libcli11-dev
   libgtest-dev libgmock-dev libbenchmark-dev
+  doxygen
   clang libclang-rt-14-dev
 )
 missing=()

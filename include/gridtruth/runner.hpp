@@ -1,0 +1,36 @@
+// gridtruth — streaming, parallel audit of a whole input.
+#pragma once
+
+#include <cstddef>
+#include <functional>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/io.hpp"
+
+namespace gridtruth {
+
+/// How run_audit() spreads the work.
+struct RunOptions {
+  unsigned threads = 0;             ///< worker threads; 0 = every hardware thread
+  std::size_t batch_features = 256;  ///< features per batch handed to a worker
+};
+
+/// Receives each feature and its result, in input order, on one thread at a time.
+using ResultSink = std::function<void(const InputFeature& feature, const AuditResult& result)>;
+
+/// Reads every feature of `reader`, audits it with a clone of `auditor` per worker thread, and hands the
+/// (feature, result) pairs to `sink` in input order. A feature the reader could not understand gets an
+/// `invalid` result carrying the reader's message; so every feature read yields exactly one call of `sink`.
+///
+/// Memory stays bounded whatever the input size: at most about 2 × threads + 2 batches are alive at once.
+/// Reading and the sink run on one thread at a time (in order), the audits on all workers.
+/// Throws what the reader throws (Error(parse) for an unreadable container) after the features before the fault
+/// have been handed to the sink; a sink that throws stops the run with its exception.
+/// Returns the number of features read.
+std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOptions& options,
+                      const ResultSink& sink);
+
+/// The result given to a feature the reader could not understand: `invalid`, with the reader's message.
+AuditResult unread_result(const InputFeature& feature);
+
+}  // namespace gridtruth

@@ -1,0 +1,94 @@
+#include "gridtruth/runner.hpp"
+
+#include <tbb/enumerable_thread_specific.h>
+#include <tbb/global_control.h>
+#include <tbb/parallel_for.h>
+#include <tbb/parallel_pipeline.h>
+#include <tbb/task_arena.h>
+
+#include <memory>
+#include <thread>
+#include <utility>
+#include <vector>
+
+namespace gridtruth {
+
+AuditResult unread_result(const InputFeature& feature) {
+  AuditResult r;
+  r.status = Status::invalid;
+  r.message = feature.error.empty() ? "the feature has no geometry" : feature.error;
+  if (feature.declared_type) r.type = *feature.declared_type;
+  return r;
+}
+
+namespace {
+
+struct Batch {
+  std::vector<InputFeature> features;
+  std::vector<AuditResult> results;
+};
+
+}  // namespace
+
+std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOptions& options,
+                      const ResultSink& sink) {
+  const unsigned hardware = std::max(1U, std::thread::hardware_concurrency());
+  const unsigned threads = options.threads == 0 ? hardware : options.threads;
+  const std::size_t batch_size = std::max<std::size_t>(1, options.batch_features);
+  std::size_t count = 0;
+
+  // One auditor per worker thread: PROJ objects are not thread-safe. The prototype is only read (clone()).
+  tbb::enumerable_thread_specific<std::unique_ptr<Auditor>> local([&] {
+    return std::make_unique<Auditor>(auditor.clone());
+  });
+  bool done = false;
+  tbb::task_arena arena(static_cast<int>(threads));
+  arena.execute([&] {
+    tbb::parallel_pipeline(
+        2 * threads + 2,
+        tbb::make_filter<void, std::shared_ptr<Batch>>(
+            tbb::filter_mode::serial_in_order,
+            [&](tbb::flow_control& flow) -> std::shared_ptr<Batch> {
+              if (done) {
+                flow.stop();
+                return nullptr;
+              }
+              auto batch = std::make_shared<Batch>();
+              batch->features.reserve(batch_size);
+              while (batch->features.size() < batch_size) {
+                std::optional<InputFeature> f = reader.next();
+                if (!f) {
+                  done = true;
+                  break;
+                }
+                batch->features.push_back(std::move(*f));
+              }
+              if (batch->features.empty()) {
+                flow.stop();
+                return nullptr;
+              }
+              return batch;
+            }) &
+            tbb::make_filter<std::shared_ptr<Batch>, std::shared_ptr<Batch>>(
+                tbb::filter_mode::parallel,
+                [&](std::shared_ptr<Batch> batch) {
+                  std::unique_ptr<Auditor>& mine = local.local();
+                  batch->results.reserve(batch->features.size());
+                  for (const InputFeature& f : batch->features) {
+                    batch->results.push_back(f.geometry ? mine->audit(*f.geometry) : unread_result(f));
+                  }
+                  return batch;
+                }) &
+            tbb::make_filter<std::shared_ptr<Batch>, void>(tbb::filter_mode::serial_in_order,
+                                                            [&](std::shared_ptr<Batch> batch) {
+                                                              for (std::size_t i = 0; i < batch->features.size();
+                                                                   ++i) {
+                                                                sink(batch->features[i], batch->results[i]);
+                                                              }
+                                                              count += batch->features.size();
+                                                            }));
+  });
+  return count;
+}
+
+}  // namespace gridtruth
