@@ -264,8 +264,12 @@ class PathDensifier {
                        GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
                            GeographicLib::Geodesic::DISTANCE_IN);
     edge_index_ = e;
+    // The first midpoint joins the distortion samples only when the edge needs refining: along an edge that is
+    // straight to within the tolerance the scale varies linearly to within ~(L/R)², so its extremes are at the
+    // vertices.
     Coord pm;
-    if (!point_at(0.5 * edge_m, pm)) return failure("cannot be projected to the target CRS");
+    if (!point_at(0.5 * edge_m, pm, false)) return failure("cannot be projected to the target CRS");
+    bool first = true;
     stack_.assign(1, Piece{0.0, edge_m, path_.xy[e], path_.xy[j], pm});
     while (!stack_.empty()) {
       const Piece piece = stack_.back();
@@ -273,6 +277,10 @@ class PathDensifier {
       if (deviation(piece.p0, piece.pm, piece.p1) <= tolerance_) {
         accept(piece.p0, piece.pm, piece.p1);
         continue;
+      }
+      if (first) {
+        samples_.push_back(first_midpoint_);
+        first = false;
       }
       if (piece.s1 - piece.s0 < 1e-3) {
         return failure("tears when projected (it crosses a discontinuity of the target CRS, such as its "
@@ -335,12 +343,16 @@ class PathDensifier {
     return std::fabs(cross(cx, cy, dx, dy)) / std::sqrt(c2);
   }
 
-  bool point_at(double s, Coord& xy) {
+  bool point_at(double s, Coord& xy, bool sample = true) {
     double lat = 0, lon = 0;
     line_.Position(s, lat, lon);
     const PJ_COORD out = proj_trans(op_, PJ_FWD, proj_coord(lon, lat, 0, 0));
     xy = {out.xy.x, out.xy.y};
-    samples_.push_back({lon, lat});
+    if (sample) {
+      samples_.push_back({lon, lat});
+    } else {
+      first_midpoint_ = {lon, lat};
+    }
     ++densified_;
     return finite(xy);
   }
@@ -367,6 +379,7 @@ class PathDensifier {
   Coord origin_;
   GeographicLib::GeodesicLine line_;
   std::size_t edge_index_ = 0;
+  Coord first_midpoint_;
   std::vector<Piece> stack_;
   CompensatedSum length_, area2_;
 };

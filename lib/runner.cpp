@@ -6,6 +6,7 @@
 #include <tbb/parallel_pipeline.h>
 #include <tbb/task_arena.h>
 
+#include <exception>
 #include <memory>
 #include <thread>
 #include <utility>
@@ -42,6 +43,7 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
     return std::make_unique<Auditor>(auditor.clone());
   });
   bool done = false;
+  std::exception_ptr reader_failure;
   tbb::task_arena arena(static_cast<int>(threads));
   arena.execute([&] {
     tbb::parallel_pipeline(
@@ -55,13 +57,19 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
               }
               auto batch = std::make_shared<Batch>();
               batch->features.reserve(batch_size);
-              while (batch->features.size() < batch_size) {
-                std::optional<InputFeature> f = reader.next();
-                if (!f) {
-                  done = true;
-                  break;
+              try {
+                while (batch->features.size() < batch_size) {
+                  std::optional<InputFeature> f = reader.next();
+                  if (!f) {
+                    done = true;
+                    break;
+                  }
+                  batch->features.push_back(std::move(*f));
                 }
-                batch->features.push_back(std::move(*f));
+              } catch (...) {
+                // Finish the features read so far, then rethrow once the pipeline has drained.
+                reader_failure = std::current_exception();
+                done = true;
               }
               if (batch->features.empty()) {
                 flow.stop();
@@ -88,6 +96,7 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                                                               count += batch->features.size();
                                                             }));
   });
+  if (reader_failure) std::rethrow_exception(reader_failure);
   return count;
 }
 

@@ -49,8 +49,10 @@ struct Budget {
 };
 
 /// Distortion statistics over the vertices and densified points of a feature (Tissot's indicatrix from central
-/// differences of the projection, relative error about 1e-9). A feature with more than 64 such points is sampled:
-/// the points extreme in longitude and latitude plus 60 evenly spaced others.
+/// differences of the projection, relative error about 1e-9). The midpoint of an edge that needed no refinement is
+/// left out (the scale varies linearly along such an edge to within ~(L/R)², so its extremes are at the vertices).
+/// A feature with more than 64 points is sampled: the points extreme in longitude and latitude plus 60 evenly
+/// spaced others.
 struct Distortion {
   double scale_min = 0;        ///< smallest Tissot semi-axis b
   double scale_max = 0;        ///< largest Tissot semi-axis a

@@ -1,0 +1,76 @@
+// Cost of a full audit against the bare truth (GeographicLib's PolygonArea) on the same polygons, per vertex.
+// Run through bench/run.sh, which turns the timings into ratios measured in one run.
+#include <GeographicLib/PolygonArea.hpp>
+#include <benchmark/benchmark.h>
+
+#include <map>
+#include <gridtruth/audit.hpp>
+
+#include "polygons.hpp"
+
+namespace {
+
+constexpr int kVertices = 32;
+constexpr std::size_t kPolygons = 256;
+
+const std::vector<gridtruth::Geometry>& shapes(double edge_m) {
+  static std::map<double, std::vector<gridtruth::Geometry>> cache;
+  auto& v = cache[edge_m];
+  if (v.empty()) v = gridtruth::bench::polygons(kPolygons, edge_m, edge_m >= 1e5 ? 12 : kVertices);
+  return v;
+}
+
+std::size_t vertex_total(const std::vector<gridtruth::Geometry>& v) {
+  std::size_t n = 0;
+  for (const auto& g : v) n += g.polygons[0].outer.size();
+  return n;
+}
+
+void BM_Truth(benchmark::State& state) {
+  const double edge_m = static_cast<double>(state.range(0));
+  const auto& polys = shapes(edge_m);
+  const GeographicLib::Geodesic& geod = GeographicLib::Geodesic::WGS84();
+  double sink = 0;
+  for (auto _ : state) {
+    for (const auto& g : polys) {
+      GeographicLib::PolygonArea area(geod);
+      for (const auto& c : g.polygons[0].outer) area.AddPoint(c.y, c.x);
+      double perimeter = 0, a = 0;
+      area.Compute(false, true, perimeter, a);
+      sink += a;
+    }
+  }
+  benchmark::DoNotOptimize(sink);
+  state.counters["per_vertex"] = benchmark::Counter(static_cast<double>(vertex_total(polys)),
+                                                    benchmark::Counter::kIsIterationInvariantRate |
+                                                        benchmark::Counter::kInvert);
+}
+
+void BM_Audit(benchmark::State& state) {
+  const double edge_m = static_cast<double>(state.range(0));
+  const auto& polys = shapes(edge_m);
+  gridtruth::AuditOptions options;
+  options.target_crs = "EPSG:32615";
+  const gridtruth::Auditor auditor(options);
+  double sink = 0;
+  std::size_t densified = 0;
+  for (auto _ : state) {
+    densified = 0;
+    for (const auto& g : polys) {
+      const gridtruth::AuditResult r = auditor.audit(g);
+      sink += r.area->grid;
+      densified += r.densified_points;
+    }
+  }
+  benchmark::DoNotOptimize(sink);
+  const double vertices = static_cast<double>(vertex_total(polys));
+  state.counters["per_vertex"] = benchmark::Counter(
+      vertices, benchmark::Counter::kIsIterationInvariantRate | benchmark::Counter::kInvert);
+  state.counters["densified_per_vertex"] = static_cast<double>(densified) / vertices;
+}
+
+}  // namespace
+
+BENCHMARK(BM_Truth)->Arg(10)->Arg(1000)->Arg(100000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_Audit)->Arg(10)->Arg(1000)->Arg(100000)->Unit(benchmark::kMicrosecond);
+BENCHMARK_MAIN();

@@ -1,0 +1,70 @@
+#!/usr/bin/env bash
+# Reruns gridtruth's benchmarks and prints one table of ratios, every number measured in this run.
+#   bash bench/run.sh            (about 5 minutes on 2 cores)
+#   FEATURES=20000 RSS_SIZES="10000 100000 1000000" bash bench/run.sh
+set -euo pipefail
+cd "$(dirname "$0")/.."
+features=${FEATURES:-20000}
+rss_sizes=${RSS_SIZES:-"10000 100000 1000000"}
+bash cmake/install-deps.sh >/dev/null
+extra=()
+for p in python3-pyproj python3-shapely time; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || extra+=("$p")
+done
+if [ ${#extra[@]} -gt 0 ]; then
+  SUDO=""; [ "$(id -u)" -ne 0 ] && SUDO=sudo
+  DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq --no-install-recommends "${extra[@]}" >/dev/null
+fi
+cmake --preset release >/dev/null
+cmake --build --preset release --target bench_audit make_features audit_only gridtruth_cli >/dev/null
+bin=build/release
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+crs=EPSG:32615
+
+echo "== kernel (Google Benchmark, 1 thread)" >&2
+"$bin/bench/bench_audit" --benchmark_format=json --benchmark_min_time=1 > "$work/kernel.json"
+
+echo "== command on $features features (1 km edges, 32 vertices)" >&2
+"$bin/bench/make_features" "$features" 1000 32 ndjson "$work/f.ndjson"
+seconds() { /usr/bin/time -f "%e %M" -o "$work/time" "$@" > /dev/null 2>&1 || true; cat "$work/time"; }
+read -r t1 _ < <(seconds "$bin/examples/gridtruth" audit "$work/f.ndjson" --crs "$crs" --threads 1 --out "$work/o1.csv")
+read -r t2 _ < <(seconds "$bin/examples/gridtruth" audit "$work/f.ndjson" --crs "$crs" --threads 2 --out "$work/o2.csv")
+read -r lib _ _ < <("$bin/bench/audit_only" "$work/f.ndjson" "$crs")
+read -r py _ < <(seconds /usr/bin/python3 bench/python_pipeline.py "$work/f.ndjson" "$crs" "$work/py.csv")
+
+rss=()
+for n in $rss_sizes; do
+  echo "== peak memory on $n features" >&2
+  "$bin/bench/make_features" "$n" 1000 8 geojson "$work/r.geojson"
+  read -r _ kib < <(seconds "$bin/examples/gridtruth" audit "$work/r.geojson" --crs "$crs" --out /dev/null)
+  rss+=("$n:$kib")
+  rm -f "$work/r.geojson"
+done
+
+/usr/bin/python3 - "$work/kernel.json" "$t1" "$t2" "$lib" "$py" "${rss[@]}" <<'PY'
+import json, sys
+kernel = json.load(open(sys.argv[1]))["benchmarks"]
+t1, t2, lib, py = map(float, sys.argv[2:6])
+per = {}
+dens = {}
+for b in kernel:
+    name, arg = b["name"].split("/")[:2]
+    per[(name, int(arg))] = b["per_vertex"] * 1e6  # µs per vertex
+    if "densified_per_vertex" in b:
+        dens[int(arg)] = b["densified_per_vertex"]
+print("| measure | value | target |")
+print("|---|---|---|")
+for edge, target in ((10, "≤ 2.0"), (1000, "≤ 2.0"), (100000, "≤ 5")):
+    ratio = per[("BM_Audit", edge)] / per[("BM_Truth", edge)]
+    print(f"| full audit / bare PolygonArea, per vertex, {edge} m edges | {ratio:.2f} "
+          f"({per[('BM_Audit', edge)]:.2f} / {per[('BM_Truth', edge)]:.2f} µs) | {target} |")
+for edge, target in ((10, "≤ 2"), (1000, "≤ 2"), (100000, "≤ 16")):
+    print(f"| densified points per vertex, {edge} m edges | {dens[edge]:.2f} | {target} |")
+print(f"| command 1 thread / 2 threads (speed-up) | {t1 / t2:.2f} ({t1:.2f} s / {t2:.2f} s) | ≥ 1.85 |")
+print(f"| command, 1 thread / library audit alone | {t1 / lib:.2f} ({t1:.2f} s / {lib:.2f} s) | ≤ 1.25 |")
+print(f"| command, 1 thread / Python pyproj+shapely pipeline | {t1 / py:.2f} ({t1:.2f} s / {py:.2f} s) | ≤ 0.5 |")
+for item in sys.argv[6:]:
+    n, kib = item.split(":")
+    print(f"| peak RSS, {int(n):,} features | {int(kib) / 1024:.0f} MiB | flat, < 200 MiB |")
+PY
