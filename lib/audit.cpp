@@ -582,12 +582,18 @@ std::vector<PointFactors> Auditor::Impl::factors_batch(const std::vector<Coord>&
     const double w2 = 1 - e2 * sphi * sphi;
     const double m = target.ellipsoid.a_m * (1 - e2) / (w2 * std::sqrt(w2));  // meridian radius of curvature
     const double n = target.ellipsoid.a_m / std::sqrt(w2);                      // prime-vertical radius
-    // Snyder (1987) eqs. 4-9 to 4-14: Tissot's indicatrix from the partial derivatives.
-    const double h = std::hypot(x_phi, y_phi) / m;
-    const double k = std::hypot(x_lam, y_lam) / (n * cphi);
-    const double s = std::fabs(x_lam * y_phi - x_phi * y_lam) / (m * n * cphi);
-    const double ap = std::sqrt(std::max(0.0, h * h + k * k + 2 * s));
-    const double bp = std::sqrt(std::max(0.0, h * h + k * k - 2 * s));
+    // Tissot's indicatrix (Snyder 1987, eqs. 4-9 to 4-14) from the Jacobian J of the map from local east and
+    // north metres to grid metres. Snyder's a' = √(h² + k² + 2s) and b' = √(h² + k² − 2s) are computed as
+    // |J ± rotation part| without cancellation: for det J > 0, b'² = (J11 − J22)² + (J12 + J21)² exactly, which
+    // vanishes for a conformal map (Cauchy–Riemann), so ω stays accurate where it is tiny.
+    const double j11 = x_lam / (n * cphi), j12 = x_phi / m, j21 = y_lam / (n * cphi), j22 = y_phi / m;
+    const double det = j11 * j22 - j12 * j21;
+    const double h = std::hypot(j12, j22);
+    const double k = std::hypot(j11, j21);
+    const double s = std::fabs(det);
+    const double sign = det >= 0 ? 1.0 : -1.0;  // a west- or south-oriented grid mirrors the plane
+    const double ap = std::hypot(j11 + sign * j22, j12 - sign * j21);
+    const double bp = std::hypot(j11 - sign * j22, j12 + sign * j21);
     PointFactors& f = out[i];
     f.meridional_scale = h;
     f.parallel_scale = k;
