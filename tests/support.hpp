@@ -1,0 +1,98 @@
+// Shared helpers for the gridtruth tests: independent measures with GeographicLib, feature builders and seeds.
+// Nothing here calls gridtruth's measuring code: these are the independent side of the cross-checks.
+#pragma once
+
+#include <GeographicLib/Geodesic.hpp>
+#include <GeographicLib/PolygonArea.hpp>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <cstdint>
+#include <cstdlib>
+#include <iostream>
+#include <string>
+#include <vector>
+
+#include "gridtruth/geometry.hpp"
+
+namespace gridtruth::test {
+
+/// An ellipsoid by a and f, for the independent side of the checks.
+struct Spheroid {
+  double a_m;
+  double f;
+};
+
+inline constexpr double pi = 3.14159265358979323846;
+
+// WGS 84 (EPSG:7030): a = 6 378 137 m, 1/f = 298.257223563 (EPSG dataset, ellipsoid 7030).
+inline constexpr Spheroid wgs84{6378137.0, 1 / 298.257223563};
+// GRS 1980 (EPSG:7019): a = 6 378 137 m, 1/f = 298.257222101 (Moritz, "Geodetic Reference System 1980",
+// J. Geodesy 74 (2000) 128-133; EPSG dataset, ellipsoid 7019).
+inline constexpr Spheroid grs80{6378137.0, 1 / 298.257222101};
+// Clarke 1866 (EPSG:7008), defined by a = 6 378 206.4 m and b = 6 356 583.8 m (EPSG dataset).
+inline constexpr Spheroid clarke1866{6378206.4, (6378206.4 - 6356583.8) / 6378206.4};
+
+/// Geodesic perimeter and |area| of one ring (lon, lat order) on an ellipsoid, with GeographicLib directly.
+struct RingMeasure {
+  double perimeter_m = 0;
+  double area_m2 = 0;
+};
+
+inline RingMeasure geodesic_ring(const Path& ring, const Spheroid& s) {
+  const GeographicLib::Geodesic geod(s.a_m, s.f);
+  GeographicLib::PolygonArea poly(geod);
+  std::size_t n = ring.size();
+  if (n > 1 && ring.front().x == ring.back().x && ring.front().y == ring.back().y) --n;  // closing vertex
+  for (std::size_t i = 0; i < n; ++i) poly.AddPoint(ring[i].y, ring[i].x);
+  RingMeasure m;
+  double area = 0;
+  poly.Compute(/*reverse=*/false, /*sign=*/true, m.perimeter_m, area);
+  m.area_m2 = std::abs(area);
+  return m;
+}
+
+/// Geodesic length of a line string.
+inline double geodesic_length(const Path& line, const Spheroid& s) {
+  const GeographicLib::Geodesic geod(s.a_m, s.f);
+  double total = 0;
+  for (std::size_t i = 1; i < line.size(); ++i) {
+    double s12 = 0;
+    geod.Inverse(line[i - 1].y, line[i - 1].x, line[i].y, line[i].x, s12);
+    total += s12;
+  }
+  return total;
+}
+
+/// An open lon/lat box ring (counter-clockwise), south-west corner (lon, lat).
+inline Path box(double lon_deg, double lat_deg, double dlon_deg, double dlat_deg) {
+  return {{lon_deg, lat_deg},
+          {lon_deg + dlon_deg, lat_deg},
+          {lon_deg + dlon_deg, lat_deg + dlat_deg},
+          {lon_deg, lat_deg + dlat_deg}};
+}
+
+/// Radii of curvature: meridian M and prime vertical N (Snyder 1987, eqs. 4-18 and 4-20; common practice).
+inline double meridian_radius_m(const Spheroid& s, double lat_deg) {
+  const double e2 = s.f * (2 - s.f);
+  const double sphi = std::sin(lat_deg * pi / 180);
+  return s.a_m * (1 - e2) / std::pow(1 - e2 * sphi * sphi, 1.5);
+}
+inline double prime_vertical_radius_m(const Spheroid& s, double lat_deg) {
+  const double e2 = s.f * (2 - s.f);
+  const double sphi = std::sin(lat_deg * pi / 180);
+  return s.a_m / std::sqrt(1 - e2 * sphi * sphi);
+}
+
+/// The seed for randomized tests: GRIDTRUTH_TEST_SEED if set, else a fixed default. Printed and recorded so
+/// any failure can be replayed.
+inline std::uint64_t test_seed(std::uint64_t default_seed = 20240917ULL) {
+  std::uint64_t seed = default_seed;
+  if (const char* env = std::getenv("GRIDTRUTH_TEST_SEED"); env != nullptr && *env != '\0')
+    seed = std::strtoull(env, nullptr, 10);
+  std::cout << "[ seed     ] " << seed << " (replay with GRIDTRUTH_TEST_SEED=" << seed << ")\n";
+  ::testing::Test::RecordProperty("seed", std::to_string(seed));
+  return seed;
+}
+
+}  // namespace gridtruth::test
