@@ -11,14 +11,16 @@ enum class CrsKind { geographic, projected, geocentric, other };
 
 /// An ellipsoid: semi-major axis a (metres) and flattening f (0 for a sphere).
 struct Ellipsoid {
-  std::string name;
-  double a_m = 0;
-  double f = 0;
+  std::string name;  ///< the ellipsoid's name, e.g. "WGS 84", "GRS 1980"
+  double a_m = 0;    ///< semi-major axis a in metres (> 0)
+  double f = 0;      ///< flattening f = (a − b)/a, dimensionless, in [0, 1); e.g. 1/298.257223563 for WGS 84
 };
 
 /// Geographic bounding box of a CRS's area of use, in degrees. west > east means it crosses the antimeridian.
 struct AreaOfUse {
-  std::string name;
+  std::string name;  ///< the CRS database's description of the area
+  // west_deg, east_deg: longitudes in [-180, 180] (east_deg < west_deg across ±180°); south_deg, north_deg:
+  // latitudes in [-90, 90].
   double west_deg = -180, south_deg = -90, east_deg = 180, north_deg = 90;
 };
 
@@ -27,7 +29,7 @@ struct CrsInfo {
   std::string definition;      ///< as given by the caller
   std::string name;            ///< the CRS's own name, e.g. "WGS 84 / UTM zone 32N"
   std::string id;              ///< "AUTHORITY:CODE" when known, else empty
-  CrsKind kind = CrsKind::other;
+  CrsKind kind = CrsKind::other;  ///< geographic, projected, geocentric or other
   Ellipsoid ellipsoid;         ///< the ellipsoid of its geodetic datum
   std::string datum_name;      ///< e.g. "World Geodetic System 1984 ensemble"
   std::string base_geographic_name;  ///< the geographic CRS it is built on (itself when geographic)

@@ -52,10 +52,10 @@ namespace testing {
 /// A longitude/latitude box in degrees on the auditor's source CRS. west_deg > east_deg means the box crosses the
 /// antimeridian. Latitudes must lie in [-90, 90] with south_deg <= north_deg.
 struct LonLatBox {
-  double west_deg = 0;
-  double south_deg = 0;
-  double east_deg = 0;
-  double north_deg = 0;
+  double west_deg = 0;   ///< western bound, degrees of longitude
+  double south_deg = 0;  ///< southern bound, degrees of latitude in [-90, 90]
+  double east_deg = 0;   ///< eastern bound, degrees of longitude (less than west_deg across the antimeridian)
+  double north_deg = 0;  ///< northern bound, degrees of latitude in [-90, 90], at least south_deg
 
   /// The box of a CRS's area of use (e.g. `LonLatBox::of(*auditor.target().area_of_use)`).
   static LonLatBox of(const AreaOfUse& area) {

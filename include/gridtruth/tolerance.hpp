@@ -13,9 +13,10 @@ enum class Metric { area, length, bearing };
 /// One tolerance. Relative tolerances are stored in ppm (0.1 % → 1000 ppm; 1:10000 → 100 ppm);
 /// absolute ones in metres (length), square metres (area) or arcseconds (bearing).
 struct Tolerance {
+  /// Whether the limit is relative to the reference (ppm) or absolute (m, m², arcsec).
   enum class Kind { relative_ppm, absolute };
-  Metric metric = Metric::area;
-  Kind kind = Kind::relative_ppm;
+  Metric metric = Metric::area;    ///< what is limited: area, length (perimeter for polygons) or bearing error
+  Kind kind = Kind::relative_ppm;  ///< relative (|error_ppm| ≤ value) or absolute (|error| ≤ value); bearing: absolute
   double value = 0;  ///< ppm, m, m² or arcsec as above; always > 0
 
   /// Parses "area=0.1%", "length=100ppm", "length=1:10000", "area=50m2", "length=0.05m", "bearing=20arcsec".
@@ -30,6 +31,7 @@ struct Tolerance {
 
 /// The outcome of comparing a feature against the tolerances that apply to it.
 enum class Verdict { none, pass, fail };
-std::string_view to_string(Verdict v) noexcept;  // "", "pass", "fail"
+/// The verdict's name: "" (none), "pass" or "fail"; never throws.
+std::string_view to_string(Verdict v) noexcept;
 
 }  // namespace gridtruth
