@@ -14,12 +14,14 @@
 #include <iostream>
 #include <memory>
 #include <optional>
+#include <stdexcept>
 #include <string>
 
 #include "audit_summary.hpp"
 #include "gridtruth/audit.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "gridtruth/runner.hpp"
 #include "gridtruth/tolerance.hpp"
 
 #ifndef GRIDTRUTH_VERSION
@@ -47,6 +49,7 @@ struct AuditArgs {
   std::string summary;
   std::string units = "metric";
   std::string format = "auto";
+  unsigned threads = 0;
 };
 
 /// One line on standard error: the reason the run could not go on.
@@ -59,14 +62,14 @@ int fail_run(const std::string& reason) {
 class Progress {
  public:
   Progress() : enabled_(isatty(STDERR_FILENO) == 1), start_(std::chrono::steady_clock::now()) {}
-  void update(std::size_t features, std::uint64_t bytes) {
+  void update(std::size_t features) {
     if (!enabled_ || (features & 63) != 0) return;
     const auto now = std::chrono::steady_clock::now();
     if (now - start_ < std::chrono::seconds(1) || now - last_ < std::chrono::milliseconds(250)) return;
     last_ = now;
     const double seconds = std::chrono::duration<double>(now - start_).count();
-    std::fprintf(stderr, "\r  %zu features audited, %.1f MB read, %.0f s", features,
-                 static_cast<double>(bytes) / 1e6, seconds);
+    std::fprintf(stderr, "\r  %zu features audited in %.0f s (%.0f per second)", features, seconds,
+                 static_cast<double>(features) / seconds);
     std::fflush(stderr);
     shown_ = true;
   }
@@ -127,57 +130,76 @@ int run_audit(const AuditArgs& args) {
     return fail_run(e.what());
   }
 
-  std::ofstream out_file;
+  // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind.
+  struct OutputError : std::runtime_error {
+    using std::runtime_error::runtime_error;
+  };
+  std::ofstream out_file, summary_file;
   std::ostream* out = &std::cout;
-  if (!args.out.empty()) {
-    out_file.open(args.out, std::ios::binary | std::ios::trunc);
-    if (!out_file) return fail_run("cannot write " + args.out);
-    out = &out_file;
-  }
+  std::optional<ResultCsvWriter> writer;
+  auto open_outputs = [&] {
+    if (!args.out.empty()) {
+      out_file.open(args.out, std::ios::binary | std::ios::trunc);
+      if (!out_file) throw OutputError("cannot write " + args.out);
+      out = &out_file;
+    }
+    if (!args.summary.empty()) {
+      summary_file.open(args.summary, std::ios::binary | std::ios::trunc);
+      if (!summary_file) {
+        if (out_file.is_open()) {
+          out_file.close();
+          std::remove(args.out.c_str());
+        }
+        throw OutputError("cannot write " + args.summary);
+      }
+    }
+    writer.emplace(*out);
+    writer->write_header();
+  };
 
-  // Read the first feature before writing anything, so that an unreadable input leaves no output behind.
-  std::optional<InputFeature> feature;
-  try {
-    feature = reader->next();
-  } catch (const Error& e) {
-    return fail_run((args.input == "-" ? std::string("standard input") : args.input) + ": " + e.what());
-  }
-
-  ResultCsvWriter writer(*out);
-  writer.write_header();
   cli::AuditSummary summary;
   Progress progress;
+  RunOptions run_options;
+  run_options.threads = args.threads;
+  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
   try {
-    while (feature) {
-      if (feature->geometry) {
-        AuditResult result = auditor->audit(*feature->geometry);
-        if (!result.failed.empty())
-          result.message += (result.message.empty() ? "" : "; ") + failed_text(result);
-        writer.write_row(feature->id, result);
-        summary.add(*feature, result);
+    run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
+      if (!writer) open_outputs();
+      if (feature.geometry) {
+        if (result.failed.empty()) {
+          writer->write_row(feature.id, result);
+        } else {
+          AuditResult annotated = result;
+          annotated.message += (annotated.message.empty() ? "" : "; ") + failed_text(result);
+          writer->write_row(feature.id, annotated);
+        }
+        summary.add(feature, result);
       } else {
-        writer.write_unread_row(feature->id, feature->error, feature->declared_type);
-        summary.add_unread(*feature);
+        writer->write_unread_row(feature.id, feature.error, feature.declared_type);
+        summary.add_unread(feature);
       }
-      progress.update(summary.read(), reader->bytes_read());
-      feature = reader->next();
-    }
+      progress.update(summary.read());
+    });
+    if (!writer) open_outputs();  // an input without features still gets its header line
+  } catch (const OutputError& e) {
+    progress.finish();
+    return fail_run(e.what());
   } catch (const Error& e) {
     progress.finish();
+    if (!writer) return fail_run(input_name + ": " + e.what());
     out->flush();
-    return fail_run((args.input == "-" ? std::string("standard input") : args.input) + ": " + e.what() + " (" +
-                    std::to_string(summary.read()) + " feature rows were written before it)");
+    return fail_run(input_name + ": " + e.what() + " (" + std::to_string(summary.read()) +
+                    " feature rows were written before it)");
   }
   progress.finish();
   out->flush();
   if (!*out) return fail_run("could not write the CSV output" + (args.out.empty() ? "" : " to " + args.out));
 
-  const cli::AuditSummary::Context context{args.input == "-" ? "standard input" : args.input, reader->format(),
-                                           &*auditor, units};
+  const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units};
   if (!args.summary.empty()) {
-    std::ofstream js(args.summary, std::ios::binary | std::ios::trunc);
-    js << summary.to_json(context).dump(2) << "\n";
-    if (!js) return fail_run("cannot write " + args.summary);
+    summary_file << summary.to_json(context).dump(2) << "\n";
+    summary_file.flush();
+    if (!summary_file) return fail_run("could not write " + args.summary);
   }
   std::cerr << summary.to_text(context);
   if (summary.read() == 0) std::cerr << "  note: the input holds no features\n";
@@ -267,8 +289,12 @@ int main(int argc, char** argv) {
   audit->add_option("--format", args.format, "input format")
       ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv"}))
       ->capture_default_str();
+  audit->add_option("--threads", args.threads, "worker threads; 0 uses every hardware thread")
+      ->capture_default_str();
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
 
+  if (argc > 1 && argv[1][0] != '-' && std::string(argv[1]) != "audit")
+    return fail_run("unknown command \"" + std::string(argv[1]) + "\" (the command is audit; see 'gridtruth --help')");
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -1,6 +1,8 @@
 // gridtruth — the feature reader facade: opening, format sniffing, numbering.
 #include <cctype>
 #include <cerrno>
+#include <charconv>
+#include <cmath>
 #include <cstring>
 #include <fstream>
 #include <iostream>
@@ -178,7 +180,38 @@ std::optional<InputFeature> FeatureReader::next() {
   feature->position = ++s.count;
   if (feature->id.empty()) feature->id = std::to_string(feature->position);
   if (!feature->geometry && feature->error.empty()) feature->error = "no geometry";
+  if (feature->geometry && feature->geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
+    feature->error = "empty geometry: " + std::string(to_string(feature->geometry->type)) + " with no coordinates";
+    feature->declared_type = feature->geometry->type;
+    feature->geometry.reset();
+  }
   return feature;
+}
+
+std::string format_number(double value) {
+  if (!std::isfinite(value)) return {};
+  if (value == 0) return "0";  // also for -0: a signed zero means nothing here
+  char buf[64];
+  // Without a precision, to_chars writes the shortest text that reads back to the same double; plain decimals
+  // in the range where they stay short enough to read.
+  const double magnitude = std::fabs(value);
+  const auto format = (magnitude >= 1e-5 && magnitude < 1e15) ? std::chars_format::fixed : std::chars_format::general;
+  const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, format);
+  if (ec != std::errc()) return {};
+  return std::string(buf, end);
+}
+
+std::string csv_field(std::string_view text) {
+  if (text.find_first_of(",\"\r\n") == std::string_view::npos) return std::string(text);
+  std::string out;
+  out.reserve(text.size() + 2);
+  out.push_back('"');
+  for (const char c : text) {
+    if (c == '"') out.push_back('"');
+    out.push_back(c);
+  }
+  out.push_back('"');
+  return out;
 }
 
 InputFormat FeatureReader::format() const noexcept { return impl_->format; }

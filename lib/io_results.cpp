@@ -1,5 +1,4 @@
 // gridtruth — writing audit results as CSV (RFC 4180), numbers in their shortest round-trip form.
-#include <charconv>
 #include <cmath>
 #include <ostream>
 #include <string>
@@ -7,32 +6,6 @@
 #include "gridtruth/io.hpp"
 
 namespace gridtruth {
-
-std::string format_number(double value) {
-  if (!std::isfinite(value)) return {};
-  if (value == 0) return "0";  // also for -0: a signed zero means nothing here
-  char buf[64];
-  // Without a precision, to_chars writes the shortest text that reads back to the same double; plain decimals
-  // in the range where they stay short enough to read.
-  const double magnitude = std::fabs(value);
-  const auto format = (magnitude >= 1e-5 && magnitude < 1e15) ? std::chars_format::fixed : std::chars_format::general;
-  const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, format);
-  if (ec != std::errc()) return {};
-  return std::string(buf, end);
-}
-
-std::string csv_field(std::string_view text) {
-  if (text.find_first_of(",\"\r\n") == std::string_view::npos) return std::string(text);
-  std::string out;
-  out.reserve(text.size() + 2);
-  out.push_back('"');
-  for (const char c : text) {
-    if (c == '"') out.push_back('"');
-    out.push_back(c);
-  }
-  out.push_back('"');
-  return out;
-}
 
 ResultCsvWriter::ResultCsvWriter(std::ostream& out, std::string line_ending)
     : out_(&out), line_ending_(std::move(line_ending)) {}

@@ -554,6 +554,20 @@ TEST(CsvReader, HeaderProblemsAreContainerErrors) {
   EXPECT_TRUE(fs[0].geometry);
 }
 
+TEST(Reader, EmptyGeometriesComeBackAsErrorsWithTheirType) {
+  // OGC 06-103r4 EMPTY and RFC 7946 section 3.1 empty "coordinates": nothing to measure.
+  auto fs = read_all("wkt\nPOLYGON EMPTY\n\"MULTIPOINT EMPTY\"\n");
+  ASSERT_EQ(fs.size(), 2u);
+  EXPECT_FALSE(fs[0].geometry);
+  EXPECT_THAT(fs[0].error, HasSubstr("empty geometry"));
+  EXPECT_EQ(fs[0].declared_type, GeometryType::polygon);
+  EXPECT_EQ(fs[1].declared_type, GeometryType::multi_point);
+  fs = read_all(R"({"type":"LineString","coordinates":[]})");
+  ASSERT_EQ(fs.size(), 1u);
+  EXPECT_THAT(fs[0].error, HasSubstr("empty geometry"));
+  EXPECT_EQ(fs[0].declared_type, GeometryType::line_string);
+}
+
 TEST(CsvReader, HeaderOnlyHasNoFeatures) { EXPECT_TRUE(read_all("id,wkt\r\n").empty()); }
 
 // ---------------------------------------------------------------------------------------------------------------

@@ -52,6 +52,8 @@ struct InputFeature {
   std::optional<Geometry> geometry;    ///< absent when the feature has no usable geometry
   std::optional<GeometryType> declared_type;  ///< the geometry type named by the input, when recognised
   std::string error;                   ///< why the feature could not be read; empty when `geometry` is set
+  // A geometry without any coordinate (WKT EMPTY, GeoJSON "coordinates": []) comes back as an error
+  // ("empty geometry: ...") with `declared_type` set: there is nothing to measure.
 };
 
 /// Pulls features one at a time from a stream or a file.

@@ -1,0 +1,744 @@
+// End-to-end tests of `gridtruth audit`: every option, every exit status, every reader, the CSV contract and the
+// hostile-input list of issue 3. The executable is run as a user runs it, through the shell.
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+#include <stdlib.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <map>
+#include <nlohmann/json.hpp>
+#include <sstream>
+#include <string>
+#include <vector>
+
+namespace {
+
+using ::testing::HasSubstr;
+using ::testing::StartsWith;
+
+#ifdef GRIDTRUTH_CLI
+const std::string cli = GRIDTRUTH_CLI;
+#else
+const std::string cli;
+#endif
+const std::string source_dir = GRIDTRUTH_SOURCE_DIR;
+const std::string demo_geojson = source_dir + "/examples/data/habitat_survey.geojson";
+const std::string demo_csv = source_dir + "/examples/data/habitat_survey.csv";
+
+// The column list of issue 3, verbatim.
+const std::vector<std::string> contract_columns = {
+    "id", "geometry_type", "status", "message", "vertices", "true_length_m", "grid_length_m", "length_error_m",
+    "length_error_ppm", "length_from_edges_m", "length_from_scale_m", "length_from_datum_m", "length_from_height_m",
+    "true_area_m2", "grid_area_m2", "area_error_m2", "area_error_ppm", "area_from_edges_m2", "area_from_scale_m2",
+    "area_from_datum_m2", "area_from_height_m2", "scale_min", "scale_max", "areal_scale_min", "areal_scale_max",
+    "angular_distortion_max_deg", "convergence_min_deg", "convergence_max_deg", "bearing_error_max_arcsec",
+    "verdict"};
+
+std::string slurp(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+void spit(const std::string& path, const std::string& text) {
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+}
+
+std::string shell_quote(const std::string& s) {
+  std::string q = "'";
+  for (const char c : s) {
+    if (c == '\'') q += "'\\''";
+    else q += c;
+  }
+  return q + "'";
+}
+
+/// An RFC 4180 parser written for the tests (independent of the library's reader): records of fields.
+std::vector<std::vector<std::string>> parse_csv(const std::string& text) {
+  std::vector<std::vector<std::string>> rows;
+  std::vector<std::string> row;
+  std::string field;
+  bool quoted = false, any = false;
+  for (std::size_t k = 0; k < text.size(); ++k) {
+    const char c = text[k];
+    if (quoted) {
+      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') {
+        field += '"';
+        ++k;
+      } else if (c == '"') {
+        quoted = false;
+      } else {
+        field += c;
+      }
+      continue;
+    }
+    any = true;
+    if (c == '"') {
+      quoted = true;
+    } else if (c == ',') {
+      row.push_back(field);
+      field.clear();
+    } else if (c == '\r' && k + 1 < text.size() && text[k + 1] == '\n') {
+      // CRLF ends the record (RFC 4180 section 2.1); the LF is handled next.
+    } else if (c == '\n') {
+      row.push_back(field);
+      field.clear();
+      rows.push_back(row);
+      row.clear();
+      any = false;
+    } else {
+      field += c;
+    }
+  }
+  if (any) {
+    row.push_back(field);
+    rows.push_back(row);
+  }
+  return rows;
+}
+
+struct CliRun {
+  int status = -1;
+  std::string out, err;
+  std::vector<std::vector<std::string>> rows;  // parsed CSV of `out`, header included
+
+  std::size_t column(const std::string& name) const {
+    const auto it = std::find(contract_columns.begin(), contract_columns.end(), name);
+    EXPECT_NE(it, contract_columns.end()) << name;
+    return static_cast<std::size_t>(it - contract_columns.begin());
+  }
+  /// The cell of data row `row` (0-based, header excluded).
+  std::string cell(std::size_t row, const std::string& name) const {
+    if (row + 1 >= rows.size()) return "<no row>";
+    const auto& r = rows[row + 1];
+    const auto k = column(name);
+    return k < r.size() ? r[k] : "<no cell>";
+  }
+  double number(std::size_t row, const std::string& name) const {
+    const std::string c = cell(row, name);
+    char* end = nullptr;
+    const double v = std::strtod(c.c_str(), &end);
+    EXPECT_TRUE(!c.empty() && end && *end == '\0') << name << " of row " << row << " is not a number: '" << c << "'";
+    return v;
+  }
+  std::size_t data_rows() const { return rows.empty() ? 0 : rows.size() - 1; }
+  /// The row whose id is `id`.
+  std::size_t row_of(const std::string& id) const {
+    for (std::size_t k = 1; k < rows.size(); ++k)
+      if (!rows[k].empty() && rows[k][0] == id) return k - 1;
+    ADD_FAILURE() << "no row with id " << id;
+    return rows.size();
+  }
+};
+
+class CliTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    if (cli.empty()) GTEST_SKIP() << "the gridtruth executable was not built";
+    char tmpl[] = "/tmp/gridtruth-cli-XXXXXX";
+    ASSERT_NE(mkdtemp(tmpl), nullptr);
+    dir_ = tmpl;
+  }
+  void TearDown() override {
+    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
+  }
+
+  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+
+  /// Runs `gridtruth ARGS` (each already a separate argument), with optional standard input.
+  CliRun run(const std::vector<std::string>& args, const std::string* stdin_text = nullptr) {
+    std::string cmd = shell_quote(cli);
+    for (const auto& a : args) cmd += " " + shell_quote(a);
+    const std::string in = path("stdin"), out = path("stdout"), err = path("stderr");
+    if (stdin_text) spit(in, *stdin_text);
+    cmd += " < " + (stdin_text ? shell_quote(in) : std::string("/dev/null"));
+    cmd += " > " + shell_quote(out) + " 2> " + shell_quote(err);
+    const int raw = std::system(cmd.c_str());
+    CliRun r;
+    r.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+    r.out = slurp(out);
+    r.err = slurp(err);
+    r.rows = parse_csv(r.out);
+    return r;
+  }
+  CliRun audit(std::vector<std::string> args, const std::string* stdin_text = nullptr) {
+    args.insert(args.begin(), "audit");
+    return run(args, stdin_text);
+  }
+  CliRun audit_text(const std::string& file_name, const std::string& text, std::vector<std::string> args) {
+    spit(path(file_name), text);
+    args.insert(args.begin(), path(file_name));
+    return audit(args);
+  }
+
+  std::string dir_;
+};
+
+/// One line on standard error, starting "gridtruth: ", nothing on standard output: the exit-2 contract.
+void expect_unusable(const CliRun& r, const std::string& reason) {
+  EXPECT_EQ(r.status, 2) << r.err;
+  EXPECT_THAT(r.err, StartsWith("gridtruth: "));
+  EXPECT_EQ(std::count(r.err.begin(), r.err.end(), '\n'), 1) << r.err;
+  EXPECT_THAT(r.err, HasSubstr(reason));
+  EXPECT_EQ(r.out, "");
+}
+
+std::string feature(const std::string& id, const std::string& geometry) {
+  return R"({"type":"Feature","id":")" + id + R"(","properties":{},"geometry":)" + geometry + "}";
+}
+
+std::string collection(const std::vector<std::string>& features) {
+  std::string s = R"({"type":"FeatureCollection","features":[)";
+  for (std::size_t k = 0; k < features.size(); ++k) s += (k ? ",\n" : "\n") + features[k];
+  return s + "\n]}\n";
+}
+
+// A 2 km × 1.5 km square near 95.4°W 44.1°N, inside UTM zone 15N (common practice: a parcel-sized feature).
+const std::string small_square =
+    R"({"type":"Polygon","coordinates":[[[-95.40,44.10],[-95.375,44.10],[-95.375,44.1135],[-95.40,44.1135],[-95.40,44.10]]]})";
+
+// ---------------------------------------------------------------------------------------------------------------
+// Help, version and exit status 2
+
+TEST_F(CliTest, HelpDocumentsEveryOptionTheCautionAndExamples) {
+  const CliRun r = run({"audit", "--help"});
+  EXPECT_EQ(r.status, 0);
+  for (const char* option : {"INPUT", "--crs", "--source-crs", "--height", "--tolerance", "--densify-tolerance",
+                             "--id-field", "--wkt-field", "--out", "--summary", "--units", "--format", "--threads"})
+    EXPECT_THAT(r.out, HasSubstr(option));
+  for (const auto& c : contract_columns) EXPECT_THAT(r.out, HasSubstr(c));
+  EXPECT_THAT(r.out, HasSubstr("support, and do not replace, licensed survey practice and local codes"));
+  EXPECT_THAT(r.out, HasSubstr("Examples:"));
+  EXPECT_THAT(r.out, HasSubstr("Exit status:"));
+
+  const CliRun top = run({"--help"});
+  EXPECT_EQ(top.status, 0);
+  EXPECT_THAT(top.out, HasSubstr("audit"));
+  EXPECT_THAT(top.out, HasSubstr("licensed survey practice"));
+
+  const CliRun version = run({"--version"});
+  EXPECT_EQ(version.status, 0);
+  EXPECT_THAT(version.out, StartsWith("gridtruth "));
+}
+
+TEST_F(CliTest, BadOptionsExitTwoWithOneLine) {
+  expect_unusable(run({}), "subcommand");
+  expect_unusable(run({"survey"}), "survey");
+  expect_unusable(audit({demo_geojson}), "--crs");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--colour", "red"}), "--colour");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=lots"}), "area=lots");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "volume=1%"}), "volume");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--units", "furlong"}), "furlong");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--format", "shapefile"}), "shapefile");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--height", "nan"}), "--height");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--height", "tall"}), "--height");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--densify-tolerance", "0"}), "--densify-tolerance");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--densify-tolerance", "-1"}), "--densify-tolerance");
+}
+
+TEST_F(CliTest, UnknownOrUnsuitableCrsExitsTwo) {
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:99999999"}), "EPSG:99999999");
+  expect_unusable(audit({demo_geojson, "--crs", "not a crs at all"}), "not a crs at all");
+  // A geographic CRS has no grid to audit (DESIGN.md: the target is a projected CRS).
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:4326"}), "EPSG:4326");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--source-crs", "EPSG:bogus"}), "EPSG:bogus");
+}
+
+TEST_F(CliTest, UnreadableInputExitsTwoAndWritesNothing) {
+  const std::string out = path("rows.csv");
+  expect_unusable(audit({path("missing.geojson"), "--crs", "EPSG:32615", "--out", out}), "missing.geojson");
+  EXPECT_FALSE(std::ifstream(out).good());
+
+  expect_unusable(audit_text("empty.geojson", "", {"--crs", "EPSG:32615", "--format", "geojson"}), "empty");
+  expect_unusable(audit_text("garbage.json", "this is not JSON", {"--crs", "EPSG:32615", "--format", "geojson"}),
+                  "byte 0");
+  // Brackets that do not match: the container cannot be cut into features (the byte is named).
+  const std::string mismatch = R"({"type":"FeatureCollection","features":[{"a":[1,2}]})";
+  expect_unusable(audit_text("mismatch.geojson", mismatch, {"--crs", "EPSG:32615", "--out", out}),
+                  "byte " + std::to_string(mismatch.find("2}") + 1));  // 0-based offset of the stray "}"
+  EXPECT_FALSE(std::ifstream(out).good());
+  // RFC 7946 section 3.3: a FeatureCollection has a "features" array.
+  expect_unusable(audit_text("nofeatures.geojson", R"({"type":"FeatureCollection"})", {"--crs", "EPSG:32615"}),
+                  "features");
+  expect_unusable(audit_text("nowkt.csv", "id,geom\n1,POINT(1 2)\n", {"--crs", "EPSG:32615"}), "wkt");
+  expect_unusable(audit_text("noid.csv", "id,wkt\n1,POINT(1 2)\n", {"--crs", "EPSG:32615", "--id-field", "name"}),
+                  "name");
+  const std::string empty_stdin;
+  expect_unusable(audit({"-", "--crs", "EPSG:32615"}, &empty_stdin), "standard input");
+}
+
+TEST_F(CliTest, UnwritableOutputExitsTwo) {
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--out", path("no/such/dir/rows.csv")}), "rows.csv");
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--out", path("rows.csv"), "--summary",
+                         path("no/such/dir/summary.json")}),
+                  "summary.json");
+  EXPECT_FALSE(std::ifstream(path("rows.csv")).good());
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Exit status 0 and 1
+
+TEST_F(CliTest, ExitZeroWhenEveryFeatureIsOkAndWithinTolerance) {
+  // UTM's scale factor is within 0.9996 and about 1.001 inside a zone at these latitudes (Snyder 1987, ch. 8),
+  // so a parcel's area is within 0.25 % of the truth.
+  CliRun r = audit_text("ok.geojson", collection({feature("P", small_square)}),
+                     {"--crs", "EPSG:32615", "--tolerance", "area=0.25%"});
+  EXPECT_EQ(r.status, 0) << r.err;
+  EXPECT_EQ(r.cell(0, "status"), "ok");
+  EXPECT_EQ(r.cell(0, "verdict"), "pass");
+  // No tolerance: no verdict, still 0.
+  r = audit_text("ok.geojson", collection({feature("P", small_square)}), {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 0) << r.err;
+  EXPECT_EQ(r.cell(0, "verdict"), "");
+}
+
+TEST_F(CliTest, ExitOneForAFailedToleranceAnInvalidOrAnUnmeasurableFeature) {
+  // Fail: near the central meridian UTM shrinks areas by about 800 ppm (k0 = 0.9996, Snyder 1987, ch. 8).
+  const std::string near_cm =
+      R"({"type":"Polygon","coordinates":[[[-93.01,45.0],[-92.99,45.0],[-92.99,45.01],[-93.01,45.01],[-93.01,45.0]]]})";
+  CliRun r = audit_text("fail.geojson", collection({feature("F", near_cm)}),
+                     {"--crs", "EPSG:32615", "--tolerance", "area=100ppm"});
+  EXPECT_EQ(r.status, 1) << r.err;
+  EXPECT_EQ(r.cell(0, "status"), "ok");
+  EXPECT_EQ(r.cell(0, "verdict"), "fail");
+  EXPECT_THAT(r.cell(0, "message"), HasSubstr("area"));
+  EXPECT_LT(r.number(0, "area_error_ppm"), -700);
+  EXPECT_GT(r.number(0, "area_error_ppm"), -900);
+
+  // Invalid: a latitude beyond 90°.
+  r = audit_text("invalid.geojson",
+                 collection({feature("ok", small_square), feature("bad", R"({"type":"Point","coordinates":[-93,91]})")}),
+                 {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1);
+  EXPECT_EQ(r.cell(0, "status"), "ok");
+  EXPECT_EQ(r.cell(1, "status"), "invalid");
+  EXPECT_THAT(r.cell(1, "message"), HasSubstr("latitude"));
+
+  // Unmeasurable: the transverse Mercator is infinite 90° from its central meridian on the equator
+  // (Snyder 1987, ch. 8); UTM zone 15N's central meridian is 93°W, so 3°W on the equator cannot be projected.
+  r = audit_text("unmeasurable.geojson", collection({feature("far", R"({"type":"Point","coordinates":[-3,0]})")}),
+                 {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1);
+  EXPECT_EQ(r.cell(0, "status"), "unmeasurable");
+  EXPECT_NE(r.cell(0, "message"), "");
+}
+
+TEST_F(CliTest, EmptyCollectionIsNotAFailure) {
+  const CliRun r = audit_text("none.geojson", collection({}), {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 0) << r.err;
+  ASSERT_EQ(r.rows.size(), 1u);
+  EXPECT_EQ(r.rows[0], contract_columns);
+  EXPECT_THAT(r.err, HasSubstr("0 read"));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// The CSV contract
+
+TEST_F(CliTest, CsvHeaderRowsAndEmptyCellsFollowTheContract) {
+  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.1%,length=1:10000"});
+  EXPECT_EQ(r.status, 1);  // the demo holds an invalid feature on purpose
+  ASSERT_FALSE(r.rows.empty());
+  EXPECT_EQ(r.rows[0], contract_columns);
+  // RFC 4180 section 2.1: every record ends with CRLF.
+  std::size_t lf = 0, crlf = 0;
+  for (std::size_t k = 0; k < r.out.size(); ++k)
+    if (r.out[k] == '\n') {
+      ++lf;
+      if (k > 0 && r.out[k - 1] == '\r') ++crlf;
+    }
+  EXPECT_EQ(lf, crlf);
+  // One row per input feature, in input order (the demo's ids as written in the file).
+  const std::vector<std::string> ids = {"HU-01", "HU-02", "HU-03", "HU-04", "HU-05", "HU-06",
+                                        "HU-07", "PL-01", "PL-02", "SM-01", "SM-02", "SM-03"};
+  ASSERT_EQ(r.data_rows(), ids.size());
+  for (std::size_t k = 0; k < ids.size(); ++k) {
+    EXPECT_EQ(r.cell(k, "id"), ids[k]);
+    EXPECT_EQ(r.rows[k + 1].size(), contract_columns.size()) << ids[k];
+  }
+  const std::vector<std::string> length_cols = {"true_length_m", "grid_length_m", "length_error_m",
+                                                "length_error_ppm", "length_from_edges_m", "length_from_scale_m",
+                                                "length_from_datum_m", "length_from_height_m"};
+  const std::vector<std::string> area_cols = {"true_area_m2", "grid_area_m2", "area_error_m2", "area_error_ppm",
+                                              "area_from_edges_m2", "area_from_scale_m2", "area_from_datum_m2",
+                                              "area_from_height_m2"};
+  for (std::size_t k = 0; k < ids.size(); ++k) {
+    const std::string type = r.cell(k, "geometry_type");
+    const std::string status = r.cell(k, "status");
+    if (status == "invalid") {
+      for (std::size_t c = 5; c < contract_columns.size(); ++c) EXPECT_EQ(r.rows[k + 1][c], "") << ids[k];
+      continue;
+    }
+    ASSERT_EQ(status, "ok") << ids[k];
+    const bool point = type == "Point" || type == "MultiPoint";
+    const bool line = type == "LineString" || type == "MultiLineString";
+    for (const auto& c : length_cols) EXPECT_EQ(r.cell(k, c).empty(), point) << ids[k] << " " << c;
+    for (const auto& c : area_cols) EXPECT_EQ(r.cell(k, c).empty(), point || line) << ids[k] << " " << c;
+    // Issue 3: a point gets its distortion statistics.
+    for (const char* c : {"scale_min", "scale_max", "areal_scale_min", "areal_scale_max"})
+      EXPECT_GT(r.number(k, c), 0.99) << ids[k];
+    if (point) EXPECT_EQ(r.cell(k, "verdict"), "") << "no tolerance applies to a point";
+    else EXPECT_THAT(r.cell(k, "verdict"), ::testing::AnyOf("pass", "fail"));
+  }
+  const std::size_t hu07 = r.row_of("HU-07");
+  EXPECT_EQ(r.cell(hu07, "status"), "invalid");
+  EXPECT_THAT(r.cell(hu07, "message"), HasSubstr("distinct"));
+}
+
+TEST_F(CliTest, NumbersObeyTheBudgetIdentities) {
+  // DESIGN.md: error = G − R = from_edges + from_scale + from_datum + from_height; ppm = 10⁶ (G − R) / R.
+  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--height", "250"});
+  for (std::size_t k = 0; k < r.data_rows(); ++k) {
+    if (r.cell(k, "status") != "ok") continue;
+    for (const std::string m : {"length", "area"}) {
+      const std::string u = m == "length" ? "_m" : "_m2";
+      if (r.cell(k, "true_" + m + u).empty()) continue;
+      const double R = r.number(k, "true_" + m + u), G = r.number(k, "grid_" + m + u);
+      const double e = r.number(k, m + "_error" + u);
+      EXPECT_NEAR(e, G - R, 1e-9 * std::fabs(R)) << r.cell(k, "id");
+      EXPECT_NEAR(r.number(k, m + "_error_ppm"), 1e6 * (G - R) / R, 1e-6) << r.cell(k, "id");
+      const double parts = r.number(k, m + "_from_edges" + u) + r.number(k, m + "_from_scale" + u) +
+                           r.number(k, m + "_from_datum" + u) + r.number(k, m + "_from_height" + u);
+      EXPECT_NEAR(parts, e, 1e-9 * std::fabs(R) + 1e-9) << r.cell(k, "id");
+    }
+  }
+}
+
+TEST_F(CliTest, QuotingOfIdsAndMessages) {
+  // RFC 4180 sections 2.6 and 2.7: fields with commas, quotes or line breaks are quoted, quotes doubled.
+  const std::string text = collection({
+      R"({"type":"Feature","id":"lot 4, \"north\"","properties":{},"geometry":)" + small_square + "}",
+      R"({"type":"Feature","id":"two\nlines","properties":{},"geometry":{"type":"Point","coordinates":["x",1]}})",
+  });
+  const CliRun r = audit_text("quotes.geojson", text, {"--crs", "EPSG:32615"});
+  EXPECT_THAT(r.out, HasSubstr("\"lot 4, \"\"north\"\"\""));
+  ASSERT_EQ(r.data_rows(), 2u);
+  EXPECT_EQ(r.cell(0, "id"), "lot 4, \"north\"");
+  EXPECT_EQ(r.cell(1, "id"), "two\nlines");
+  EXPECT_EQ(r.cell(1, "status"), "invalid");
+  EXPECT_EQ(r.cell(1, "geometry_type"), "Point");
+  EXPECT_THAT(r.cell(1, "message"), HasSubstr("string"));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Readers: GeoJSON, newline-delimited GeoJSON, CSV + WKT, standard input
+
+std::string demo_as_ndjson(const std::string& geojson, bool record_separators) {
+  const auto doc = nlohmann::json::parse(geojson);
+  std::string out;
+  for (const auto& f : doc["features"]) out += (record_separators ? "\x1E" : "") + f.dump() + "\n";
+  return out;
+}
+
+TEST_F(CliTest, EveryReaderGivesTheSameRowsForTheSameFeatures) {
+  const std::vector<std::string> common = {"--crs", "EPSG:32615", "--tolerance", "area=0.1%"};
+  auto with = [&](std::vector<std::string> first) {
+    first.insert(first.end(), common.begin(), common.end());
+    return first;
+  };
+  const CliRun geojson = audit(with({demo_geojson}));
+  ASSERT_EQ(geojson.data_rows(), 12u);
+  const std::string nd = demo_as_ndjson(slurp(demo_geojson), false);
+  const std::string rs = demo_as_ndjson(slurp(demo_geojson), true);
+  const CliRun ndjson = audit_text("demo.ndjson", nd, with({"--format", "ndjson"}));
+  const CliRun sniffed_nd = audit_text("demo.txt", nd, with({}));
+  const CliRun seq = audit_text("demo.geojsons", rs, with({}));  // RFC 8142 record separators
+  const CliRun csv = audit(with({demo_csv, "--id-field", "unit_id"}));
+  const std::string csv_text = slurp(demo_csv);
+  const std::string geojson_text = slurp(demo_geojson);
+  const CliRun csv_stdin = audit(with({"-", "--id-field", "unit_id"}), &csv_text);
+  const CliRun geojson_stdin = audit(with({"-"}), &geojson_text);
+  const CliRun nd_stdin = audit(with({"-", "--format", "ndjson"}), &nd);
+  for (const CliRun* r : {&ndjson, &sniffed_nd, &seq, &csv, &csv_stdin, &geojson_stdin, &nd_stdin}) {
+    EXPECT_EQ(r->status, geojson.status) << r->err;
+    EXPECT_EQ(r->rows, geojson.rows) << r->err;
+  }
+  EXPECT_THAT(ndjson.err, HasSubstr("(ndjson)"));
+  EXPECT_THAT(sniffed_nd.err, HasSubstr("(ndjson)"));
+  EXPECT_THAT(csv.err, HasSubstr("(csv)"));
+  EXPECT_THAT(geojson_stdin.err, HasSubstr("standard input (geojson)"));
+}
+
+TEST_F(CliTest, IdFieldAndWktField) {
+  // The contract: GeoJSON feature id, else the --id-field property, else the 1-based position.
+  const std::string text = collection({
+      R"({"type":"Feature","id":"given","properties":{"tag":"T1"},"geometry":)" + small_square + "}",
+      R"({"type":"Feature","properties":{"tag":"T2"},"geometry":)" + small_square + "}",
+      R"({"type":"Feature","properties":{},"geometry":)" + small_square + "}",
+  });
+  CliRun r = audit_text("ids.geojson", text, {"--crs", "EPSG:32615", "--id-field", "tag"});
+  ASSERT_EQ(r.data_rows(), 3u);
+  EXPECT_EQ(r.cell(0, "id"), "given");
+  EXPECT_EQ(r.cell(1, "id"), "T2");
+  EXPECT_EQ(r.cell(2, "id"), "3");
+  r = audit_text("ids.geojson", text, {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.cell(1, "id"), "2");
+
+  const std::string csv = "Name,Shape\r\nalpha,\"POLYGON ((-95.40 44.10, -95.375 44.10, -95.375 44.1135, "
+                          "-95.40 44.1135, -95.40 44.10))\"\r\nbeta,POINT (-93.5 44.2)\r\n";
+  r = audit_text("shapes.csv", csv, {"--crs", "EPSG:32615", "--wkt-field", "shape", "--id-field", "name"});
+  EXPECT_EQ(r.status, 0) << r.err;
+  ASSERT_EQ(r.data_rows(), 2u);
+  EXPECT_EQ(r.cell(0, "id"), "alpha");
+  EXPECT_EQ(r.cell(0, "geometry_type"), "Polygon");
+  EXPECT_EQ(r.cell(1, "id"), "beta");
+  // The same polygon read from GeoJSON and from WKT gives the same numbers.
+  const CliRun g = audit_text("one.geojson", collection({feature("alpha", small_square)}), {"--crs", "EPSG:32615"});
+  EXPECT_EQ(g.rows.at(1), r.rows.at(1));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Options that change the numbers
+
+TEST_F(CliTest, OutWritesTheFileAndNothingToStandardOutput) {
+  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--out", path("rows.csv")});
+  EXPECT_EQ(r.status, 1);
+  EXPECT_EQ(r.out, "");
+  const CliRun s = audit({demo_geojson, "--crs", "EPSG:32615"});
+  EXPECT_EQ(slurp(path("rows.csv")), s.out);
+  // Standard error holds the summary, never a CSV row, and no progress line when it is not a terminal.
+  EXPECT_THAT(r.err, HasSubstr("12 read, 11 ok, 1 invalid, 0 unmeasurable"));
+  EXPECT_EQ(r.err.find('\r'), std::string::npos);
+  EXPECT_THAT(r.err, HasSubstr("licensed survey practice and local codes"));
+}
+
+TEST_F(CliTest, ThreadsKeepInputOrderAndResults) {
+  // Audits are independent per feature (DESIGN.md), so the rows cannot depend on the number of workers.
+  const CliRun one = audit({demo_geojson, "--crs", "EPSG:32615", "--threads", "1"});
+  const CliRun two = audit({demo_geojson, "--crs", "EPSG:32615", "--threads", "2"});
+  EXPECT_EQ(one.status, 1);
+  EXPECT_EQ(one.out, two.out);
+  EXPECT_EQ(one.data_rows(), 12u);
+  expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--threads", "many"}), "--threads");
+}
+
+TEST_F(CliTest, HeightLiftsTheTruthByTheGaussianRadius) {
+  // DESIGN.md / common practice: area × (1 + h/R_G)², with R_G = √(M·N) between 6.33e6 m and 6.40e6 m on
+  // WGS 84 at any latitude.
+  const std::string one = collection({feature("P", small_square)});
+  const CliRun flat = audit_text("h.geojson", one, {"--crs", "EPSG:32615"});
+  const CliRun high = audit_text("h.geojson", one, {"--crs", "EPSG:32615", "--height", "1000"});
+  const double ratio = high.number(0, "true_area_m2") / flat.number(0, "true_area_m2");
+  EXPECT_GT(ratio, std::pow(1 + 1000 / 6.40e6, 2));
+  EXPECT_LT(ratio, std::pow(1 + 1000 / 6.33e6, 2));
+  EXPECT_EQ(high.cell(0, "grid_area_m2"), flat.cell(0, "grid_area_m2"));  // the grid does not change
+  EXPECT_NE(high.number(0, "area_from_height_m2"), 0);
+  EXPECT_EQ(flat.number(0, "area_from_height_m2"), 0);
+}
+
+TEST_F(CliTest, DensifyToleranceChangesOnlyTheEdgePart) {
+  // DESIGN.md: G (straight chords) does not depend on densification; D does, within the tolerance.
+  const std::string one = collection({feature("P", small_square)});
+  const CliRun fine = audit_text("d.geojson", one, {"--crs", "EPSG:32615", "--densify-tolerance", "0.0001"});
+  const CliRun coarse = audit_text("d.geojson", one, {"--crs", "EPSG:32615", "--densify-tolerance", "0.5"});
+  EXPECT_EQ(fine.status, 0);
+  EXPECT_EQ(coarse.status, 0);
+  EXPECT_EQ(fine.cell(0, "grid_area_m2"), coarse.cell(0, "grid_area_m2"));
+  EXPECT_EQ(fine.cell(0, "true_area_m2"), coarse.cell(0, "true_area_m2"));
+  // The edge part is at most the tolerance times the perimeter (7 km).
+  EXPECT_NEAR(fine.number(0, "area_from_edges_m2"), coarse.number(0, "area_from_edges_m2"), 0.5 * 7000);
+}
+
+TEST_F(CliTest, SourceCrsAndTheDatumTransformationAreReported) {
+  const std::string one = collection({feature("P", small_square)});
+  // NAD83 coordinates onto a WGS 84 grid: a datum transformation is involved.
+  const CliRun r = audit_text("s.geojson", one,
+                           {"--crs", "EPSG:32615", "--source-crs", "EPSG:4269", "--summary", path("s.json")});
+  EXPECT_NE(r.status, 2) << r.err;
+  const auto j = nlohmann::json::parse(slurp(path("s.json")));
+  EXPECT_EQ(j["source_crs"]["definition"], "EPSG:4269");
+  EXPECT_THAT(j["source_crs"]["name"].get<std::string>(), HasSubstr("NAD83"));
+  EXPECT_THAT(j["target_crs"]["name"].get<std::string>(), HasSubstr("UTM zone 15N"));
+  EXPECT_FALSE(j["datum_transformation"]["is_identity"].get<bool>());
+  EXPECT_FALSE(j["datum_transformation"]["name"].get<std::string>().empty());
+  EXPECT_TRUE(j["datum_transformation"].contains("accuracy_m"));
+  EXPECT_THAT(r.err, HasSubstr("datum transformation: "));
+  EXPECT_THAT(r.err, HasSubstr("NAD83"));
+}
+
+TEST_F(CliTest, SummaryJsonMatchesTheRows) {
+  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.1%", "--summary", path("s.json")});
+  const auto j = nlohmann::json::parse(slurp(path("s.json")));
+  std::map<std::string, int> count;
+  double true_area = 0, grid_area = 0, true_length = 0;
+  std::vector<std::pair<double, std::string>> by_ppm;
+  for (std::size_t k = 0; k < r.data_rows(); ++k) {
+    ++count[r.cell(k, "status")];
+    ++count[r.cell(k, "verdict")];
+    if (r.cell(k, "status") != "ok") continue;
+    const std::string type = r.cell(k, "geometry_type");
+    if (type == "Polygon" || type == "MultiPolygon") {
+      true_area += r.number(k, "true_area_m2");
+      grid_area += r.number(k, "grid_area_m2");
+      by_ppm.emplace_back(std::fabs(r.number(k, "area_error_ppm")), r.cell(k, "id"));
+    } else if (type == "LineString" || type == "MultiLineString") {
+      true_length += r.number(k, "true_length_m");
+      by_ppm.emplace_back(std::fabs(r.number(k, "length_error_ppm")), r.cell(k, "id"));
+    }
+  }
+  EXPECT_EQ(j["counts"]["read"], r.data_rows());
+  EXPECT_EQ(j["counts"]["ok"], count["ok"]);
+  EXPECT_EQ(j["counts"]["invalid"], count["invalid"]);
+  EXPECT_EQ(j["counts"]["unmeasurable"], count["unmeasurable"]);
+  EXPECT_EQ(j["counts"]["pass"], count["pass"]);
+  EXPECT_EQ(j["counts"]["fail"], count["fail"]);
+  EXPECT_EQ(j["exit_status"], r.status);
+  EXPECT_NEAR(j["totals"]["true_area"].get<double>(), true_area, 1e-6 * true_area);
+  EXPECT_NEAR(j["totals"]["grid_area"].get<double>(), grid_area, 1e-6 * grid_area);
+  EXPECT_NEAR(j["totals"]["true_length"].get<double>(), true_length, 1e-6 * true_length);
+  std::sort(by_ppm.rbegin(), by_ppm.rend());
+  const auto& worst = j["worst_features"];
+  ASSERT_EQ(worst.size(), std::min<std::size_t>(10, by_ppm.size()));
+  for (std::size_t k = 0; k < worst.size(); ++k) EXPECT_EQ(worst[k]["id"], by_ppm[k].second);
+  EXPECT_EQ(j["source_crs"]["id"], "EPSG:4326");
+  EXPECT_EQ(j["target_crs"]["id"], "EPSG:32615");
+  EXPECT_TRUE(j["datum_transformation"]["is_identity"].get<bool>());
+  EXPECT_EQ(j["options"]["tolerances"][0], "area<=1000ppm");
+  EXPECT_THAT(j["caution"].get<std::string>(), HasSubstr("licensed survey practice"));
+}
+
+TEST_F(CliTest, UnitsConvertTheSummaryTotals) {
+  // Hectare = 10 000 m² (SI); international acre = 43 560 ft² with the foot 0.3048 m = 4 046.856 422 4 m²;
+  // US survey acre = 4 046.872 609 874 m², foot 1200/3937 m (NIST; 85 FR 62698, 2020).
+  const auto total = [&](const std::string& units) {
+    audit({demo_geojson, "--crs", "EPSG:32615", "--units", units, "--summary", path(units + ".json")});
+    return nlohmann::json::parse(slurp(path(units + ".json")));
+  };
+  const auto m = total("metric"), ha = total("hectare"), ac = total("acre"), us = total("us-survey-acre");
+  const double area_m2 = m["totals"]["true_area"].get<double>();
+  const double length_m = m["totals"]["true_length"].get<double>();
+  EXPECT_EQ(m["units"]["area_unit"], "m2");
+  EXPECT_NEAR(ha["totals"]["true_area"].get<double>(), area_m2 / 1e4, 1e-9 * area_m2);
+  EXPECT_NEAR(ac["totals"]["true_area"].get<double>(), area_m2 / 4046.8564224, 1e-9 * area_m2);
+  EXPECT_NEAR(us["totals"]["true_area"].get<double>(), area_m2 / 4046.872609874, 1e-9 * area_m2);
+  EXPECT_NEAR(ac["totals"]["true_length"].get<double>(), length_m / 0.3048, 1e-9 * length_m);
+  EXPECT_NEAR(us["totals"]["true_length"].get<double>(), length_m * 3937 / 1200, 1e-9 * length_m);
+  EXPECT_EQ(ha["totals"]["area_error_ppm"], m["totals"]["area_error_ppm"]);  // ppm has no unit
+  // The CSV stays in SI units whatever --units says.
+  const CliRun a = audit({demo_geojson, "--crs", "EPSG:32615", "--units", "acre"});
+  const CliRun b = audit({demo_geojson, "--crs", "EPSG:32615"});
+  EXPECT_EQ(a.out, b.out);
+  EXPECT_THAT(a.err, HasSubstr(" ac"));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Hostile input (issue 3): one row per feature, the bad ones invalid with a message naming the problem, the good
+// ones still audited.
+
+TEST_F(CliTest, HostileGeoJsonFeatures) {
+  std::string huge = R"({"type":"LineString","coordinates":[)";
+  for (int k = 0; k < 50000; ++k) huge += (k ? ",[" : "[") + std::to_string(-95.0 + k * 1e-5) + ",44.5]";
+  huge += "]}";
+  const std::vector<std::pair<std::string, std::string>> bad = {
+      {R"({"type":"Point","coordinates":[NaN,1]})", "malformed JSON"},
+      {R"({"type":"Point","coordinates":[Infinity,1]})", "malformed JSON"},
+      {R"({"type":"Point","coordinates":[1,2,]})", "malformed JSON"},  // RFC 8259: no trailing comma
+      {"null", "null geometry"},
+      {R"({"type":"GeometryCollection","geometries":[]})", "GeometryCollection"},
+      {R"({"type":"Hexagon","coordinates":[1,2]})", "unknown geometry type"},
+      {R"({"type":"Point","coordinates":["-93","44"]})", "string"},
+      {R"({"type":"Point","coordinates":[null,44]})", "null"},
+      {R"({"type":"Point","coordinates":[-93,95]})", "latitude"},
+      {R"({"type":"Point","coordinates":[600,44]})", "longitude"},
+      {R"({"type":"Polygon","coordinates":[[[-93,44],[-92.9,44],[-93,44],[-93,44]]]})", "distinct"},
+      {R"({"type":"Polygon","coordinates":[]})", "empty"},
+      {R"({"type":"LineString","coordinates":[]})", "empty"},
+  };
+  std::vector<std::string> features = {feature("good-first", small_square)};
+  for (std::size_t k = 0; k < bad.size(); ++k) features.push_back(feature("bad-" + std::to_string(k), bad[k].first));
+  // A self-intersecting (bow-tie) ring is measured as the signed sum of its lobes (geometry.hpp); it must
+  // still give exactly one row.
+  features.push_back(feature(
+      "bowtie", R"({"type":"Polygon","coordinates":[[[-93,44],[-92.9,44.1],[-92.9,44],[-93,44.1],[-93,44]]]})"));
+  features.push_back(feature("huge", huge));
+  features.push_back(feature("good-last", small_square));
+  const CliRun r = audit_text("hostile.geojson", collection(features), {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1) << r.err;
+  ASSERT_EQ(r.data_rows(), features.size()) << r.err;
+  EXPECT_EQ(r.cell(0, "status"), "ok");
+  for (std::size_t k = 0; k < bad.size(); ++k) {
+    // A feature whose JSON cannot be parsed has no readable id: its 1-based position stands in.
+    const bool unparsed = bad[k].second == "malformed JSON";
+    EXPECT_EQ(r.cell(k + 1, "id"), unparsed ? std::to_string(k + 2) : "bad-" + std::to_string(k));
+    EXPECT_EQ(r.cell(k + 1, "status"), "invalid") << bad[k].first;
+    EXPECT_THAT(r.cell(k + 1, "message"), HasSubstr(bad[k].second)) << bad[k].first;
+  }
+  const std::size_t n = features.size();
+  EXPECT_EQ(r.cell(n - 3, "id"), "bowtie");
+  EXPECT_THAT(r.cell(n - 3, "status"), ::testing::AnyOf("ok", "invalid"));
+  EXPECT_EQ(r.cell(n - 2, "status"), "ok");
+  EXPECT_EQ(r.cell(n - 2, "vertices"), "50000");
+  EXPECT_EQ(r.cell(n - 1, "status"), "ok");
+  EXPECT_THAT(r.err, HasSubstr(std::to_string(bad.size()) + " invalid"));
+}
+
+TEST_F(CliTest, TruncatedFilesKeepTheCompleteFeatures) {
+  // GeoJSON cut inside its third feature: two rows ok, the third invalid and named as truncated.
+  std::string text = collection({feature("a", small_square), feature("b", small_square), feature("c", small_square)});
+  text.resize(text.rfind("-95.375"));
+  CliRun r = audit_text("cut.geojson", text, {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1) << r.err;
+  ASSERT_EQ(r.data_rows(), 3u);
+  EXPECT_EQ(r.cell(0, "status"), "ok");
+  EXPECT_EQ(r.cell(1, "status"), "ok");
+  EXPECT_EQ(r.cell(2, "status"), "invalid");
+  EXPECT_THAT(r.cell(2, "message"), HasSubstr("truncated"));
+
+  // Newline-delimited: the last line cut short (RFC 7464 section 2.3 speaks of truncated texts).
+  std::string nd = demo_as_ndjson(slurp(demo_geojson), false);
+  nd.resize(nd.size() - 20);
+  r = audit_text("cut.ndjson", nd, {"--crs", "EPSG:32615"});
+  ASSERT_EQ(r.data_rows(), 12u);
+  EXPECT_EQ(r.cell(11, "status"), "invalid");
+  EXPECT_THAT(r.cell(11, "message"), HasSubstr("line 12"));
+
+  // CSV cut inside a quoted WKT value (RFC 4180 section 2.7).
+  std::string csv = slurp(demo_csv);
+  csv.resize(csv.size() - 20);
+  r = audit_text("cut.csv", csv, {"--crs", "EPSG:32615", "--id-field", "unit_id"});
+  ASSERT_EQ(r.data_rows(), 12u);
+  EXPECT_EQ(r.cell(11, "status"), "invalid");
+  EXPECT_EQ(r.cell(10, "status"), "ok");
+}
+
+TEST_F(CliTest, HostileCsvRows) {
+  const std::string csv =
+      "id,wkt\n"
+      "ok1,\"POINT (-93.5 44)\"\n"
+      "commas,POLYGON((-93 44, -92.9 44, -92.9 44.1, -93 44))\n"  // RFC 4180 section 2.6: must be quoted
+      "nan,\"POINT (NaN 44)\"\n"
+      "gc,\"GEOMETRYCOLLECTION (POINT (1 2))\"\n"
+      "empty,\"POLYGON EMPTY\"\n"
+      "zm,\"LINESTRING ZM (-93 44 10 1, -92.9 44.1 12 2)\"\n"
+      "blank,\n"
+      "garbage,\"POINT (1 2\"\n"
+      "ok2,\"POINT (-92 45)\"\n";
+  const CliRun r = audit_text("hostile.csv", csv, {"--crs", "EPSG:32615", "--id-field", "id"});
+  EXPECT_EQ(r.status, 1);
+  ASSERT_EQ(r.data_rows(), 9u);
+  const std::map<std::string, std::pair<std::string, std::string>> expected = {
+      {"ok1", {"ok", ""}},
+      {"commas", {"invalid", "fields"}},
+      {"nan", {"invalid", "not a number"}},
+      {"gc", {"invalid", "GEOMETRYCOLLECTION"}},
+      {"empty", {"invalid", "empty"}},
+      {"zm", {"ok", ""}},  // Z and M ordinates are dropped
+      {"blank", {"invalid", "empty geometry"}},
+      {"garbage", {"invalid", "WKT"}},
+      {"ok2", {"ok", ""}},
+  };
+  for (const auto& [id, want] : expected) {
+    const auto k = r.row_of(id);
+    EXPECT_EQ(r.cell(k, "status"), want.first) << id;
+    if (!want.second.empty()) EXPECT_THAT(r.cell(k, "message"), HasSubstr(want.second)) << id;
+  }
+}
+
+}  // namespace
