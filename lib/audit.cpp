@@ -3,10 +3,14 @@
 #include <GeographicLib/Geodesic.hpp>
 #include <GeographicLib/GeodesicLine.hpp>
 #include <GeographicLib/Accumulator.hpp>
+#include <GeographicLib/Rhumb.hpp>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
+#include <cstdio>
 #include <limits>
+#include <functional>
 #include <sstream>
 #include <utility>
 
@@ -90,6 +94,7 @@ struct WorkPath {
   std::vector<Coord> lonlat_s;  // source CRS, degrees
   std::vector<Coord> lonlat_p;  // target's base geographic CRS, degrees
   std::vector<Coord> xy;        // target CRS plane, its linear unit
+  std::vector<Coord> c_xy;      // straight edges: the plane of the edge CRS
   bool closed() const noexcept { return role != Role::line; }
   std::size_t edge_count() const noexcept {
     return lonlat_s.size() < 2 ? 0 : (closed() ? lonlat_s.size() : lonlat_s.size() - 1);
@@ -120,56 +125,91 @@ int prime_meridian_crossing(double lon1_deg, double lon2_deg) noexcept {
   return 0;
 }
 
-/// One geodesic inverse per edge on an ellipsoid gives the path's length, a ring's signed area (counter-clockwise
+/// One inverse per edge on an ellipsoid gives the path's length, a ring's signed area (counter-clockwise
 /// positive, in (−A/2, A/2] for an ellipsoid of area A, as GeographicLib's PolygonArea) and each edge's start
-/// azimuth and length for densification and bearings.
+/// azimuth and length for densification and bearings. `Geod` is GeographicLib::Geodesic (geodesic edges) or
+/// GeographicLib::Rhumb (rhumb edges): both give the area S12 between the edge and the equator (Karney 2013;
+/// Karney, "The area of rhumb polygons", 2024).
 struct EllipsoidWalk {
   double length_m = 0;
   double signed_area_m2 = 0;
-  std::vector<double> azimuth_deg;  // at the start of each edge
+  std::vector<double> azimuth_deg;  // of the true edge at its start
   std::vector<double> sin_azimuth, cos_azimuth;
-  std::vector<double> edge_m;  // geodesic length of each edge
+  std::vector<double> edge_param;  // the edge's curve parameter range: metres along it (geodesic, rhumb) or the
+                                   // chord length in the edge CRS's unit (straight edges)
 };
 
-EllipsoidWalk walk_on_ellipsoid(const GeographicLib::Geodesic& geod, const std::vector<Coord>& lonlat,
-                                bool closed) {
+/// Accumulates edges (length, S12, prime-meridian crossings) and reduces the sum to a ring's signed area.
+class RingSum {
+ public:
+  void add(double s12, double area12, double lon1, double lon2) {
+    length_ += s12;
+    area_ += area12;
+    crossings_ += prime_meridian_crossing(lon1, lon2);
+  }
+  void add_area(double area12) { area_ += area12; }
+  void add_length(double s12) { length_ += s12; }
+  double length() const { return length_(); }
+  /// The ring's area, counter-clockwise positive, in (−whole/2, whole/2].
+  double signed_area(double whole) const {
+    // The sum of S12 is the area to the south of the edges, clockwise positive; reduce it to the ring's area.
+    GeographicLib::Accumulator<> area(area_);
+    area.remainder(whole);
+    double ring = area();
+    if (crossings_ % 2 != 0) ring += (ring < 0 ? 0.5 : -0.5) * whole;  // the ring encircles a pole
+    ring = -ring;                                                       // counter-clockwise positive
+    if (ring > whole / 2) ring -= whole;
+    else if (ring <= -whole / 2) ring += whole;
+    return ring;
+  }
+
+ private:
+  GeographicLib::Accumulator<> length_, area_;  // double-double sums
+  int crossings_ = 0;
+};
+
+struct EdgeInverse {
+  double s12 = 0, azi1 = 0, area12 = 0;
+};
+EdgeInverse inverse(const GeographicLib::Geodesic& g, const Coord& a, const Coord& b, bool area) {
+  EdgeInverse r;
+  double azi2 = 0, m12 = 0, mm12 = 0, mm21 = 0;
+  g.GenInverse(a.y, a.x, b.y, b.x,
+               GeographicLib::Geodesic::DISTANCE | GeographicLib::Geodesic::AZIMUTH |
+                   (area ? unsigned(GeographicLib::Geodesic::AREA) : 0U),
+               r.s12, r.azi1, azi2, m12, mm12, mm21, r.area12);
+  return r;
+}
+EdgeInverse inverse(const GeographicLib::Rhumb& g, const Coord& a, const Coord& b, bool area) {
+  EdgeInverse r;
+  g.GenInverse(a.y, a.x, b.y, b.x,
+               GeographicLib::Rhumb::DISTANCE | GeographicLib::Rhumb::AZIMUTH |
+                   (area ? unsigned(GeographicLib::Rhumb::AREA) : 0U),
+               r.s12, r.azi1, r.area12);
+  return r;
+}
+
+template <class Geod>
+EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonlat, bool closed) {
   EllipsoidWalk w;
   const std::size_t n = lonlat.size();
   const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
   w.azimuth_deg.resize(edges);
   w.sin_azimuth.resize(edges);
   w.cos_azimuth.resize(edges);
-  w.edge_m.resize(edges);
-  const unsigned mask = GeographicLib::Geodesic::DISTANCE | GeographicLib::Geodesic::AZIMUTH |
-                        (closed ? unsigned(GeographicLib::Geodesic::AREA) : 0U);
-  GeographicLib::Accumulator<> length, area;  // double-double sums
-  int crossings = 0;
+  w.edge_param.resize(edges);
+  RingSum sum;
   for (std::size_t e = 0; e < edges; ++e) {
     const Coord& a = lonlat[e];
     const Coord& b = lonlat[(e + 1) % n];
-    double s12 = 0, azi1 = 0, azi2 = 0, m12 = 0, mm12 = 0, mm21 = 0, area12 = 0;
-    geod.GenInverse(a.y, a.x, b.y, b.x, mask, s12, azi1, azi2, m12, mm12, mm21, area12);
-    length += s12;
-    w.azimuth_deg[e] = azi1;
-    GeographicLib::Math::sincosd(azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
-    w.edge_m[e] = s12;
-    if (closed) {
-      area += area12;
-      crossings += prime_meridian_crossing(a.x, b.x);
-    }
+    const EdgeInverse edge = inverse(geod, a, b, closed);
+    sum.add(edge.s12, closed ? edge.area12 : 0.0, a.x, b.x);
+    w.azimuth_deg[e] = edge.azi1;
+    GeographicLib::Math::sincosd(edge.azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
+    w.edge_param[e] = edge.s12;
   }
-  w.length_m = length();
-  if (closed && edges > 0) {
-    // The sum of S12 is the area to the south of the edges, clockwise positive; reduce it to the ring's area.
-    const double whole = geod.EllipsoidArea();
-    area.remainder(whole);
-    double ring = area();
-    if (crossings % 2 != 0) ring += (ring < 0 ? 0.5 : -0.5) * whole;  // the ring encircles a pole
-    ring = -ring;                                                       // counter-clockwise positive
-    if (ring > whole / 2) ring -= whole;
-    else if (ring <= -whole / 2) ring += whole;
-    w.signed_area_m2 = ring;
-  }
+  w.length_m = sum.length();
+  if (closed && edges > 0) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
   return w;
 }
 
@@ -240,6 +280,144 @@ Budget truth_only_budget(double reference, double e_s, double e_p) {
   return b;
 }
 
+/// Truth for edges straight in the plane of a CRS C: each edge c0 → c1 of C's plane is taken back to the
+/// ellipsoid point by point and followed by geodesic chords, refined until the chord of every piece passes within
+/// the tolerance of the curve's midpoint (estimated as 2·T/s, T the geodesic triangle of the piece's ends and
+/// midpoint). A final piece contributes its two half-chords plus a third of T (the curve taken as a parabola,
+/// Archimedes' 4/3 rule; Richardson extrapolation for length). The same pieces give the measure on a second
+/// ellipsoid (the target's) when the datums differ.
+class StraightWalker {
+ public:
+  struct Side {
+    const GeographicLib::Geodesic* geod;
+    PJ* from_plane;  // C's plane → longitude, latitude (degrees) on this side's geographic CRS
+  };
+
+  StraightWalker(Side source, std::optional<Side> target, double tolerance_m)
+      : source_(source), target_(target), tolerance_m_(tolerance_m) {}
+
+  /// Walks a path given by its vertices in C's plane (`c_xy`) and on each side's geographic CRS; returns a failure
+  /// message, or fills `on_source` and `on_target` (a copy of `on_source` when there is no target side).
+  std::string walk(const std::vector<Coord>& c_xy, const std::vector<Coord>& lonlat_s,
+                   const std::vector<Coord>& lonlat_p, bool closed, std::size_t path_index,
+                   EllipsoidWalk& on_source, EllipsoidWalk& on_target) {
+    const std::size_t n = c_xy.size();
+    const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
+    RingSum sum_s, sum_p;
+    on_source = EllipsoidWalk{};
+    on_target = EllipsoidWalk{};
+    for (EllipsoidWalk* w : {&on_source, &on_target}) {
+      w->azimuth_deg.resize(edges);
+      w->sin_azimuth.resize(edges);
+      w->cos_azimuth.resize(edges);
+      w->edge_param.resize(edges);
+    }
+    for (std::size_t e = 0; e < edges; ++e) {
+      const std::size_t j = (e + 1) % n;
+      const Coord c0 = c_xy[e], c1 = c_xy[j];
+      const double length = std::hypot(c1.x - c0.x, c1.y - c0.y);
+      Piece first{0, 1, {lonlat_s[e], lonlat_s[j]}, {lonlat_p[e], lonlat_p[j]}, {}, {}};
+      chord(source_, first.s[0], first.s[1], first.chord_s);
+      if (target_) chord(*target_, first.p[0], first.p[1], first.chord_p);
+      stack_.assign(1, first);
+      while (!stack_.empty()) {
+        const Piece piece = stack_.back();
+        stack_.pop_back();
+        const double tm = 0.5 * (piece.t0 + piece.t1);
+        const Coord mc{c0.x + tm * (c1.x - c0.x), c0.y + tm * (c1.y - c0.y)};
+        const Coord ms = from_plane(source_, mc);
+        const Coord mp = target_ ? from_plane(*target_, mc) : ms;
+        if (!finite(ms) || !finite(mp)) return failure(e, path_index, "cannot be taken back to the ellipsoid");
+        Chord a_s, b_s, a_p, b_p;
+        chord(source_, piece.s[0], ms, a_s);
+        chord(source_, ms, piece.s[1], b_s);
+        const double whole_s = source_.geod->EllipsoidArea();
+        const double triangle_s = std::remainder(a_s.area + b_s.area - piece.chord_s.area, whole_s);
+        const double deviation = piece.chord_s.length > 0 ? 2 * std::fabs(triangle_s) / piece.chord_s.length : 0;
+        if (target_) {
+          chord(*target_, piece.p[0], mp, a_p);
+          chord(*target_, mp, piece.p[1], b_p);
+        }
+        if (deviation <= tolerance_m_) {
+          accept(sum_s, piece.s[0], ms, piece.s[1], a_s, b_s, piece.chord_s, whole_s);
+          if (target_) {
+            accept(sum_p, piece.p[0], mp, piece.p[1], a_p, b_p, piece.chord_p, target_->geod->EllipsoidArea());
+          }
+          continue;
+        }
+        if ((piece.t1 - piece.t0) * length < 1e-3 || ++points_ > kMaxPoints) {
+          return failure(e, path_index, "does not converge when taken back to the ellipsoid");
+        }
+        stack_.push_back({tm, piece.t1, {ms, piece.s[1]}, {mp, piece.p[1]}, b_s, b_p});
+        stack_.push_back({piece.t0, tm, {piece.s[0], ms}, {piece.p[0], mp}, a_s, a_p});
+      }
+      // The true edge's azimuth at its start: toward a point 1 unit (or half the edge) along it.
+      const double t = std::min(0.5, 1.0 / std::max(length, 1e-300));
+      const Coord near{c0.x + t * (c1.x - c0.x), c0.y + t * (c1.y - c0.y)};
+      start_azimuth(source_, lonlat_s[e], from_plane(source_, near), on_source, e);
+      if (target_) start_azimuth(*target_, lonlat_p[e], from_plane(*target_, near), on_target, e);
+      on_source.edge_param[e] = length;
+    }
+    on_source.length_m = sum_s.length();
+    if (closed && edges > 0) on_source.signed_area_m2 = sum_s.signed_area(source_.geod->EllipsoidArea());
+    if (target_) {
+      on_target.length_m = sum_p.length();
+      if (closed && edges > 0) on_target.signed_area_m2 = sum_p.signed_area(target_->geod->EllipsoidArea());
+      on_target.edge_param = on_source.edge_param;
+    } else {
+      on_target = on_source;
+    }
+    return {};
+  }
+
+ private:
+  struct Chord {
+    double length = 0, area = 0;
+  };
+  struct Piece {
+    double t0, t1;
+    Coord s[2], p[2];  // ends on the source and target ellipsoids
+    Chord chord_s, chord_p;
+  };
+  static constexpr std::size_t kMaxPoints = 4'000'000;
+
+  static Coord from_plane(const Side& side, const Coord& c) {
+    const PJ_COORD out = proj_trans(side.from_plane, PJ_FWD, proj_coord(c.x, c.y, 0, 0));
+    Coord lonlat{out.lp.lam, out.lp.phi};
+    if (!finite(lonlat) || out.lp.lam == HUGE_VAL) lonlat = {kNaN, kNaN};
+    return lonlat;
+  }
+  static void chord(const Side& side, const Coord& a, const Coord& b, Chord& out) {
+    double azi1 = 0, azi2 = 0, m12 = 0, mm12 = 0, mm21 = 0;
+    side.geod->GenInverse(a.y, a.x, b.y, b.x,
+                          GeographicLib::Geodesic::DISTANCE | GeographicLib::Geodesic::AREA, out.length, azi1,
+                          azi2, m12, mm12, mm21, out.area);
+  }
+  static void accept(RingSum& sum, const Coord& a, const Coord& m, const Coord& b, const Chord& am,
+                     const Chord& mb, const Chord& ab, double whole) {
+    sum.add(am.length, am.area, a.x, m.x);
+    sum.add(mb.length, mb.area, m.x, b.x);
+    sum.add_area(std::remainder(am.area + mb.area - ab.area, whole) / 3);
+    sum.add_length((am.length + mb.length - ab.length) / 3);
+  }
+  static void start_azimuth(const Side& side, const Coord& a, const Coord& toward, EllipsoidWalk& w,
+                            std::size_t e) {
+    double s12 = 0, azi1 = 0, azi2 = 0;
+    side.geod->Inverse(a.y, a.x, toward.y, toward.x, s12, azi1, azi2);
+    w.azimuth_deg[e] = azi1;
+    GeographicLib::Math::sincosd(azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
+  }
+  static std::string failure(std::size_t e, std::size_t path_index, const std::string& what) {
+    return "edge " + std::to_string(e + 1) + " of part " + std::to_string(path_index + 1) + " " + what;
+  }
+
+  Side source_;
+  std::optional<Side> target_;
+  double tolerance_m_;
+  std::vector<Piece> stack_;
+  std::size_t points_ = 0;
+};
+
 /// Adaptive densification of one path's edges in the target plane (the D measure).
 ///
 /// Each edge is the geodesic on the target's ellipsoid; its projected image is approximated piecewise by
@@ -252,17 +430,19 @@ Budget truth_only_budget(double reference, double e_s, double e_p) {
 /// tolerance. A piece shorter than 1 mm that still deviates marks a tear (a discontinuity of the projection).
 class PathDensifier {
  public:
-  PathDensifier(const GeographicLib::Geodesic& geod, PJ* op, double tolerance_units, const WorkPath& path,
-                std::size_t path_index, std::vector<Coord>& samples, std::size_t& densified)
-      : geod_(geod), op_(op), tolerance_(tolerance_units), path_(path), path_index_(path_index),
-        samples_(samples), densified_(densified), origin_(path.xy.front()) {}
+  /// A true edge: its point at parameter s (0 at the start vertex), as longitude and latitude on the target's
+  /// geographic CRS; NaN where it cannot be computed.
+  using Curve = std::function<Coord(double s)>;
 
-  /// Densifies edge e → j that starts with the azimuth azimuth_deg and is edge_m long; returns a failure message.
-  std::string edge(std::size_t e, std::size_t j, double azimuth_deg, double edge_m) {
-    const Coord& a = path_.lonlat_p[e];
-    line_ = geod_.Line(a.y, a.x, azimuth_deg,
-                       GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
-                           GeographicLib::Geodesic::DISTANCE_IN);
+  PathDensifier(PJ* op, double tolerance_units, const WorkPath& path, std::size_t path_index,
+                std::vector<Coord>& samples, std::size_t& densified)
+      : op_(op), tolerance_(tolerance_units), path_(path), path_index_(path_index), samples_(samples),
+        densified_(densified), origin_(path.xy.front()) {}
+
+  /// Densifies edge e → j, the curve over parameters [0, length]; returns a failure message.
+  std::string edge(std::size_t e, std::size_t j, const Curve& curve, double length) {
+    curve_ = &curve;
+    const double edge_m = length;
     edge_index_ = e;
     // The first midpoint joins the distortion samples only when the edge needs refining: along an edge that is
     // straight to within the tolerance the scale varies linearly to within ~(L/R)², so its extremes are at the
@@ -344,14 +524,14 @@ class PathDensifier {
   }
 
   bool point_at(double s, Coord& xy, bool sample = true) {
-    double lat = 0, lon = 0;
-    line_.Position(s, lat, lon);
-    const PJ_COORD out = proj_trans(op_, PJ_FWD, proj_coord(lon, lat, 0, 0));
+    const Coord lonlat = (*curve_)(s);
+    const PJ_COORD out = proj_trans(op_, PJ_FWD, proj_coord(lonlat.x, lonlat.y, 0, 0));
     xy = {out.xy.x, out.xy.y};
+    if (!finite(lonlat)) xy = {kNaN, kNaN};
     if (sample) {
-      samples_.push_back({lon, lat});
+      samples_.push_back(lonlat);
     } else {
-      first_midpoint_ = {lon, lat};
+      first_midpoint_ = lonlat;
     }
     ++densified_;
     return finite(xy);
@@ -369,7 +549,6 @@ class PathDensifier {
     return "edge " + std::to_string(edge_index_ + 1) + " of part " + std::to_string(path_index_ + 1) + " " + what;
   }
 
-  const GeographicLib::Geodesic& geod_;
   PJ* op_;
   double tolerance_;
   const WorkPath& path_;
@@ -377,7 +556,7 @@ class PathDensifier {
   std::vector<Coord>& samples_;
   std::size_t& densified_;
   Coord origin_;
-  GeographicLib::GeodesicLine line_;
+  const Curve* curve_ = nullptr;
   std::size_t edge_index_ = 0;
   Coord first_midpoint_;
   std::vector<Piece> stack_;
@@ -391,12 +570,19 @@ struct Auditor::Impl {
   CrsInfo source;
   CrsInfo target;
   TransformInfo transform;
+  EdgeSpec edges;
   detail::Context ctx;
-  Pj op_proj;  // target's base geographic CRS (lon, lat degrees) → target plane (easting, northing)
-  Pj op_full;  // source (lon, lat degrees) → target plane, through the datum transformation; null when identity
-  Pj op_fast;  // the same as op_proj, rebuilt from its PROJ pipeline string (no CRS wrapper): faster per point
+  Pj op_proj;    // target's base geographic CRS (lon, lat degrees) → target plane (easting, northing)
+  Pj op_full;    // source lon, lat → target plane, through the datum transformation; null when identity
+  Pj op_fast;    // the same as op_proj, rebuilt from its PROJ pipeline string (no CRS wrapper): faster per point
+  Pj op_source;  // projected source plane → its base geographic CRS; null for a geographic source
+  Pj op_s_to_c;  // straight edges: source lon, lat → the edge CRS's plane
+  Pj op_c_to_s;  // straight edges: the edge CRS's plane → source lon, lat
+  Pj op_c_to_p;  // straight edges: the edge CRS's plane → target's geographic lon, lat; null when identity
+  bool edge_crs_is_target = false;  // straight edges in the target's own plane: D = G
   GeographicLib::Geodesic geod_s{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   GeographicLib::Geodesic geod_p{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
+  std::optional<GeographicLib::Rhumb> rhumb_s, rhumb_p;
   double unit_m = 1;
   double tolerance_units = 0;  // densify tolerance in the target's linear unit
 
@@ -404,8 +590,10 @@ struct Auditor::Impl {
   explicit Impl(const AuditOptions& o);
   std::unique_ptr<Impl> clone() const;
 
-  AuditResult audit(const Geometry& g) const;
+  AuditResult audit(const Geometry& g, double height_m) const;
   PointFactors factors_p(double lon_p, double lat_p) const { return factors_batch({{lon_p, lat_p}}).front(); }
+  /// Source coordinates (as given) → source longitude, latitude; NaN when they cannot be converted.
+  Coord to_source_lonlat(const Coord& c) const;
 
  private:
   // Fills lonlat_p and xy of every path and point; returns an error message when a vertex fails.
@@ -414,9 +602,30 @@ struct Auditor::Impl {
   bool transform_array(PJ* op, PJ_DIRECTION dir, std::vector<Coord>& pts) const;
   std::vector<PointFactors> factors_batch(const std::vector<Coord>& lonlat_p) const;
   std::optional<Distortion> distortion_over(const std::vector<Coord>& samples) const;
-  std::string outside_area_warning(const std::vector<WorkPath>& paths, const std::vector<Coord>& points) const;
+  std::string area_of_use_check(const std::vector<WorkPath>& paths, const std::vector<Coord>& points,
+                                bool& beyond_margin) const;
   void apply_verdict(AuditResult& r) const;
+  /// A projected source's geometry taken to longitude and latitude; problems listed like validate()'s.
+  Geometry source_to_lonlat(const Geometry& g, std::vector<Problem>& problems) const;
 };
+
+namespace {
+
+Pj normalized_operation(PJ_CONTEXT* c, const PJ* from, const PJ* to, const std::string& what) {
+  Pj raw(proj_create_crs_to_crs_from_pj(c, from, to, nullptr, nullptr));
+  Pj op(raw ? proj_normalize_for_visualization(c, raw.get()) : nullptr);
+  if (!op) throw Error(ErrorCode::no_transformation, "cannot build " + what + ": " + detail::last_error(c));
+  return op;
+}
+
+Pj clone_into(PJ_CONTEXT* c, const Pj& op) {
+  if (!op) return nullptr;
+  Pj copy(proj_clone(c, op.get()));
+  if (!copy) throw Error(ErrorCode::no_transformation, "cannot clone a PROJ operation");
+  return copy;
+}
+
+}  // namespace
 
 Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_context()) {
   if (o.target_crs.empty()) throw Error(ErrorCode::invalid_argument, "no target CRS given");
@@ -426,12 +635,15 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
   if (!std::isfinite(o.height_m) || o.height_m < -10000 || o.height_m > 100000) {
     throw Error(ErrorCode::invalid_argument, "height must be between -10000 m and 100000 m");
   }
+  if (!(o.area_of_use_margin_deg >= 0)) {
+    throw Error(ErrorCode::invalid_argument, "the area-of-use margin must be zero or more degrees");
+  }
   PJ_CONTEXT* c = ctx.get();
   Pj src = detail::resolve_crs(c, o.source_crs);
   source = detail::describe(c, src.get(), o.source_crs);
-  if (source.kind != CrsKind::geographic) {
-    throw Error(ErrorCode::unsupported_crs,
-                "source CRS '" + o.source_crs + "' (" + source.name + ") is not a geographic CRS");
+  if (source.kind != CrsKind::geographic && source.kind != CrsKind::projected) {
+    throw Error(ErrorCode::unsupported_crs, "source CRS '" + o.source_crs + "' (" + source.name +
+                                                ") is neither geographic nor projected");
   }
   Pj tgt = detail::resolve_crs(c, o.target_crs);
   target = detail::describe(c, tgt.get(), o.target_crs);
@@ -446,23 +658,45 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
 
   Pj tgt_h = detail::horizontal_crs(c, tgt.get());
   Pj src_h = detail::horizontal_crs(c, src.get());
+  // The geographic CRS the truth lives on: the source itself, or a projected source's base geographic CRS.
+  Pj src_geog = source.kind == CrsKind::projected ? Pj(proj_crs_get_geodetic_crs(c, src_h.get()))
+                                                  : Pj(proj_clone(c, src.get()));
+  if (!src_geog) throw Error(ErrorCode::unsupported_crs, "source CRS '" + o.source_crs + "' has no geodetic CRS");
+  if (source.kind == CrsKind::projected) {
+    op_source = normalized_operation(c, src_h.get(), src_geog.get(), "the inverse projection of the source CRS");
+  }
   Pj geog_p(proj_crs_get_geodetic_crs(c, tgt_h.get()));
   if (!geog_p) throw Error(ErrorCode::unsupported_crs, "target CRS '" + o.target_crs + "' has no geodetic CRS");
-  {
-    Pj raw(proj_create_crs_to_crs_from_pj(c, geog_p.get(), tgt_h.get(), nullptr, nullptr));
-    if (raw) op_proj.reset(proj_normalize_for_visualization(c, raw.get()));
-    if (!op_proj) {
-      throw Error(ErrorCode::no_transformation,
-                  "cannot build the projection of '" + o.target_crs + "': " + detail::last_error(c));
-    }
-  }
+  op_proj = normalized_operation(c, geog_p.get(), tgt_h.get(), "the projection of '" + o.target_crs + "'");
   if (const char* pipeline = proj_as_proj_string(c, op_proj.get(), PJ_PROJ_5, nullptr)) {
     op_fast.reset(proj_create(c, pipeline));
   }
   if (!op_fast) op_fast.reset(proj_clone(c, op_proj.get()));
+
+  // The edge model, and for straight edges the plane they are straight in.
+  edges = o.edges ? *o.edges
+                  : (source.kind == CrsKind::projected ? EdgeSpec{EdgeModel::straight, o.source_crs} : EdgeSpec{});
+  if (edges.model == EdgeModel::rhumb) {
+    rhumb_s.emplace(source.ellipsoid.a_m, source.ellipsoid.f, true);
+    rhumb_p.emplace(target.ellipsoid.a_m, target.ellipsoid.f, true);
+  }
+  Pj edge_h;
+  if (edges.model == EdgeModel::straight) {
+    Pj edge_crs = detail::resolve_crs(c, edges.crs);
+    const CrsInfo edge_info = detail::describe(c, edge_crs.get(), edges.crs);
+    if (edge_info.kind != CrsKind::projected) {
+      throw Error(ErrorCode::unsupported_crs, "edges can only be straight in a projected CRS; '" + edges.crs +
+                                                  "' (" + edge_info.name + ") is not one");
+    }
+    edge_h = detail::horizontal_crs(c, edge_crs.get());
+    edge_crs_is_target = proj_is_equivalent_to_with_ctx(c, edge_h.get(), tgt_h.get(), PJ_COMP_EQUIVALENT) != 0;
+    op_s_to_c = normalized_operation(c, src_geog.get(), edge_h.get(), "the operation to the edge CRS");
+    op_c_to_s = normalized_operation(c, edge_h.get(), src_geog.get(), "the operation from the edge CRS");
+  }
+
   const bool target_is_bound = proj_get_type(tgt.get()) == PJ_TYPE_BOUND_CRS;
   const bool same = !target_is_bound &&
-                    proj_is_equivalent_to_with_ctx(c, src_h.get(), geog_p.get(),
+                    proj_is_equivalent_to_with_ctx(c, src_geog.get(), geog_p.get(),
                                                    PJ_COMP_EQUIVALENT_EXCEPT_AXIS_ORDER_GEOGCRS);
   if (same) {
     transform.name = "none (source CRS is the target's base geographic CRS)";
@@ -470,11 +704,12 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
     transform.is_identity = true;
     return;
   }
+  if (edge_h) op_c_to_p = normalized_operation(c, edge_h.get(), geog_p.get(), "the operation from the edge CRS");
   PJ_OPERATION_FACTORY_CONTEXT* factory = proj_create_operation_factory_context(c, nullptr);
   proj_operation_factory_context_set_grid_availability_use(c, factory,
                                                            PROJ_GRID_AVAILABILITY_DISCARD_OPERATION_IF_MISSING_GRID);
   proj_operation_factory_context_set_spatial_criterion(c, factory, PROJ_SPATIAL_CRITERION_PARTIAL_INTERSECTION);
-  PJ_OBJ_LIST* list = proj_create_operations(c, src.get(), tgt.get(), factory);
+  PJ_OBJ_LIST* list = proj_create_operations(c, src_geog.get(), tgt.get(), factory);
   const int count = list ? proj_list_get_count(list) : 0;
   for (int i = 0; i < count && !op_full; ++i) {
     Pj candidate(proj_list_get(c, list, i));
@@ -502,18 +737,71 @@ std::unique_ptr<Auditor::Impl> Auditor::Impl::clone() const {
   copy->source = source;
   copy->target = target;
   copy->transform = transform;
+  copy->edges = edges;
   copy->ctx = detail::make_context();
-  copy->op_proj.reset(proj_clone(copy->ctx.get(), op_proj.get()));
-  if (op_full) copy->op_full.reset(proj_clone(copy->ctx.get(), op_full.get()));
-  copy->op_fast.reset(proj_clone(copy->ctx.get(), op_fast.get()));
+  PJ_CONTEXT* c = copy->ctx.get();
+  copy->op_proj = clone_into(c, op_proj);
+  copy->op_full = clone_into(c, op_full);
+  copy->op_fast = clone_into(c, op_fast);
+  copy->op_source = clone_into(c, op_source);
+  copy->op_s_to_c = clone_into(c, op_s_to_c);
+  copy->op_c_to_s = clone_into(c, op_c_to_s);
+  copy->op_c_to_p = clone_into(c, op_c_to_p);
+  copy->edge_crs_is_target = edge_crs_is_target;
   copy->geod_s = geod_s;
   copy->geod_p = geod_p;
+  copy->rhumb_s = rhumb_s;
+  copy->rhumb_p = rhumb_p;
   copy->unit_m = unit_m;
   copy->tolerance_units = tolerance_units;
-  if (!copy->op_proj || !copy->op_fast || (op_full && !copy->op_full)) {
-    throw Error(ErrorCode::no_transformation, "cannot clone the PROJ operations");
-  }
   return copy;
+}
+
+Coord Auditor::Impl::to_source_lonlat(const Coord& c) const {
+  if (!op_source) return c;
+  if (!finite(c)) return {kNaN, kNaN};
+  const PJ_COORD out = proj_trans(op_source.get(), PJ_FWD, proj_coord(c.x, c.y, 0, 0));
+  Coord lonlat{out.lp.lam, out.lp.phi};
+  if (!finite(lonlat)) lonlat = {kNaN, kNaN};
+  return lonlat;
+}
+
+Geometry Auditor::Impl::source_to_lonlat(const Geometry& g, std::vector<Problem>& problems) const {
+  Geometry out = g;
+  std::size_t failures = 0;
+  std::string first;
+  auto convert = [&](Coord& c, const std::string& where) {
+    if (!finite(c)) return;  // validate() names non-finite values
+    const Coord lonlat = to_source_lonlat(c);
+    if (!finite(lonlat) && failures++ == 0) {
+      first = where + " (" + std::to_string(c.x) + ", " + std::to_string(c.y) + ")";
+    }
+    c = finite(lonlat) ? lonlat : Coord{0, 0};
+  };
+  for (std::size_t i = 0; i < out.points.size(); ++i) convert(out.points[i], "point " + std::to_string(i + 1));
+  for (std::size_t i = 0; i < out.lines.size(); ++i) {
+    for (std::size_t k = 0; k < out.lines[i].size(); ++k) {
+      convert(out.lines[i][k], "line " + std::to_string(i + 1) + " vertex " + std::to_string(k + 1));
+    }
+  }
+  for (std::size_t i = 0; i < out.polygons.size(); ++i) {
+    for (std::size_t k = 0; k < out.polygons[i].outer.size(); ++k) {
+      convert(out.polygons[i].outer[k],
+              "polygon " + std::to_string(i + 1) + " outer ring vertex " + std::to_string(k + 1));
+    }
+    for (std::size_t h = 0; h < out.polygons[i].holes.size(); ++h) {
+      for (std::size_t k = 0; k < out.polygons[i].holes[h].size(); ++k) {
+        convert(out.polygons[i].holes[h][k], "polygon " + std::to_string(i + 1) + " hole " +
+                                                 std::to_string(h + 1) + " vertex " + std::to_string(k + 1));
+      }
+    }
+  }
+  if (failures > 0) {
+    problems.push_back({Problem::Code::non_finite,
+                        std::to_string(failures) + " vertices cannot be taken from the source CRS to longitude and "
+                                                   "latitude, first " + first});
+  }
+  return out;
 }
 
 bool Auditor::Impl::transform_array(PJ* op, PJ_DIRECTION dir, std::vector<Coord>& pts) const {
@@ -634,30 +922,43 @@ std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord
   return Distortion{scale_b.lo, scale_a.hi, areal.lo, areal.hi, omega.hi, conv.lo, conv.hi};
 }
 
-std::string Auditor::Impl::outside_area_warning(const std::vector<WorkPath>& paths,
-                                                const std::vector<Coord>& points) const {
+std::string Auditor::Impl::area_of_use_check(const std::vector<WorkPath>& paths, const std::vector<Coord>& points,
+                                             bool& beyond_margin) const {
+  beyond_margin = false;
   if (!target.area_of_use) return {};
   const AreaOfUse& aou = *target.area_of_use;
-  auto inside = [&](const Coord& c) {
-    if (c.y < aou.south_deg || c.y > aou.north_deg) return false;
-    const double lon = std::remainder(c.x, 360.0);
-    if (aou.west_deg <= aou.east_deg) return lon >= aou.west_deg && lon <= aou.east_deg;
-    return lon >= aou.west_deg || lon <= aou.east_deg;  // area of use across the antimeridian
+  // Degrees outside the bounding box (0 inside); longitudes compared the short way round.
+  auto outside_deg = [&](const Coord& c) {
+    const double lat_out = std::max({0.0, aou.south_deg - c.y, c.y - aou.north_deg});
+    const double width = std::remainder(aou.east_deg - aou.west_deg, 360.0);
+    const double span = width <= 0 ? width + 360 : width;  // across the antimeridian when west > east
+    const double from_west = std::remainder(c.x - aou.west_deg, 360.0);
+    const double offset = from_west < 0 ? from_west + 360 : from_west;  // [0, 360)
+    const double lon_out = offset <= span ? 0.0 : std::min(offset - span, 360 - offset);
+    return std::max(lat_out, lon_out);
   };
   std::size_t total = 0, outside = 0;
-  for (const WorkPath& p : paths) {
-    for (const Coord& c : p.lonlat_s) {
-      ++total;
-      if (!inside(c)) ++outside;
-    }
-  }
-  for (const Coord& c : points) {
+  double worst = 0;
+  auto check = [&](const Coord& c) {
     ++total;
-    if (!inside(c)) ++outside;
+    const double d = outside_deg(c);
+    if (d > 0) ++outside;
+    worst = std::max(worst, d);
+  };
+  for (const WorkPath& p : paths) {
+    for (const Coord& c : p.lonlat_s) check(c);
   }
+  for (const Coord& c : points) check(c);
   if (outside == 0) return {};
-  return "warning: " + std::to_string(outside) + " of " + std::to_string(total) +
-         " vertices lie outside the area of use of the target CRS (" + aou.name + ")";
+  beyond_margin = worst > options.area_of_use_margin_deg;
+  char worst_text[32];
+  std::snprintf(worst_text, sizeof worst_text, "%.3g", worst);
+  return std::string(beyond_margin ? "" : "warning: ") + std::to_string(outside) + " of " + std::to_string(total) +
+         " vertices lie outside the area of use of the target CRS (" + aou.name + "), up to " + worst_text +
+         "° beyond it" +
+         (beyond_margin ? "; more than the margin of " + std::to_string(options.area_of_use_margin_deg).substr(0, 4) +
+                              "°, so the grid measure is not meaningful"
+                        : "");
 }
 
 void Auditor::Impl::apply_verdict(AuditResult& r) const {
@@ -680,11 +981,18 @@ void Auditor::Impl::apply_verdict(AuditResult& r) const {
   if (any) r.verdict = r.failed.empty() ? Verdict::pass : Verdict::fail;
 }
 
-AuditResult Auditor::Impl::audit(const Geometry& g) const {
+AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   AuditResult r;
-  r.type = g.type;
-  r.vertices = g.vertex_count();
-  const std::vector<Problem> problems = validate(g);
+  r.type = input.type;
+  r.vertices = input.vertex_count();
+  r.height_m = height_m;
+  std::vector<Problem> problems;
+  const Geometry g = op_source ? source_to_lonlat(input, problems) : input;
+  for (Problem& p : validate(g)) problems.push_back(std::move(p));
+  if (!std::isfinite(height_m) || height_m < -10000 || height_m > 100000) {
+    problems.push_back({Problem::Code::non_finite, "height " + std::to_string(height_m) +
+                                                       " m is not within -10000 m to 100000 m"});
+  }
   if (!problems.empty()) {
     r.status = Status::invalid;
     r.message = describe(problems);
@@ -701,38 +1009,88 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
       break;
     case GeometryType::line_string:
     case GeometryType::multi_line_string:
-      for (const Path& line : g.lines) paths.push_back({WorkPath::Role::line, 0, clean_path(line, false), {}, {}});
+      for (const Path& line : g.lines) paths.push_back({WorkPath::Role::line, 0, clean_path(line, false), {}, {}, {}});
       break;
     case GeometryType::polygon:
     case GeometryType::multi_polygon:
       for (std::size_t p = 0; p < g.polygons.size(); ++p) {
-        paths.push_back({WorkPath::Role::outer, p, clean_path(g.polygons[p].outer, true), {}, {}});
+        paths.push_back({WorkPath::Role::outer, p, clean_path(g.polygons[p].outer, true), {}, {}, {}});
         for (const Path& hole : g.polygons[p].holes) {
-          paths.push_back({WorkPath::Role::hole, p, clean_path(hole, true), {}, {}});
+          paths.push_back({WorkPath::Role::hole, p, clean_path(hole, true), {}, {}, {}});
         }
       }
       break;
   }
   const bool has_length = !paths.empty();
   const bool has_area = g.type == GeometryType::polygon || g.type == GeometryType::multi_polygon;
+  const bool straight = edges.model == EdgeModel::straight;
 
-  // 2. Truth on the source ellipsoid (E_S), lifted to the ground (R): one geodesic inverse per edge, whose
-  //    azimuth and length are reused below when the target shares the source's datum and ellipsoid.
-  std::vector<EllipsoidWalk> walk_s(paths.size());
-  CompensatedSum length_s, lat_sum;
-  std::vector<double> area_s(paths.size(), 0.0);
+  // 2. Datum transformation and projection of the vertices (a failure is reported after the truth).
+  std::vector<Coord> points_p, points_xy;
+  std::string transform_failure = transform_vertices(paths, points_p, points_xy, points_s);
+  if (straight) {
+    for (std::size_t i = 0; i < paths.size() && transform_failure.empty(); ++i) {
+      paths[i].c_xy = paths[i].lonlat_s;
+      if (!transform_array(op_s_to_c.get(), PJ_FWD, paths[i].c_xy)) {
+        transform_failure = "a vertex of part " + std::to_string(i + 1) + " cannot be taken to the edge CRS (" +
+                            edges.crs + ")";
+      }
+    }
+  }
+
+  // 3. Truth on the source ellipsoid (E_S), lifted to the ground (R), with the edges the model says; for
+  //    straight edges the same pieces give E_P. One inverse per edge (or piece) feeds truth, densification and
+  //    bearings.
+  std::vector<EllipsoidWalk> walk_s(paths.size()), walk_p_own;
+  const bool separate_target = op_full != nullptr;
+  if (separate_target) walk_p_own.resize(paths.size());
+  CompensatedSum lat_sum;
   std::size_t lat_count = 0;
   for (std::size_t i = 0; i < paths.size(); ++i) {
-    walk_s[i] = walk_on_ellipsoid(geod_s, paths[i].lonlat_s, paths[i].closed());
-    length_s.add(walk_s[i].length_m);
-    area_s[i] = walk_s[i].signed_area_m2;
-    for (const Coord& c : paths[i].lonlat_s) lat_sum.add(c.y), ++lat_count;
+    const WorkPath& path = paths[i];
+    if (edges.model == EdgeModel::geodesic) {
+      walk_s[i] = walk_on_ellipsoid(geod_s, path.lonlat_s, path.closed());
+    } else if (edges.model == EdgeModel::rhumb) {
+      walk_s[i] = walk_on_ellipsoid(*rhumb_s, path.lonlat_s, path.closed());
+    } else if (transform_failure.empty()) {
+      StraightWalker walker({&geod_s, op_c_to_s.get()},
+                            separate_target ? std::optional<StraightWalker::Side>({&geod_p, op_c_to_p.get()})
+                                            : std::nullopt,
+                            options.densify_tolerance_m);
+      EllipsoidWalk on_target;
+      const std::string why =
+          walker.walk(path.c_xy, path.lonlat_s, separate_target ? path.lonlat_p : path.lonlat_s, path.closed(), i,
+                      walk_s[i], on_target);
+      if (!why.empty()) {
+        r.status = Status::unmeasurable;  // not even the truth: nothing to report but the reason
+        r.message = why;
+        return r;
+      }
+      if (separate_target) walk_p_own[i] = std::move(on_target);
+    }
+    for (const Coord& c : path.lonlat_s) lat_sum.add(c.y), ++lat_count;
   }
   for (const Coord& c : points_s) lat_sum.add(c.y), ++lat_count;
+  if (straight && !transform_failure.empty()) {
+    r.status = Status::unmeasurable;
+    r.message = transform_failure;
+    return r;
+  }
+  auto sum_length = [&](const std::vector<EllipsoidWalk>& walks) {
+    CompensatedSum sum;
+    for (const EllipsoidWalk& w : walks) sum.add(w.length_m);
+    return sum.value();
+  };
+  auto sum_area = [&](const std::vector<EllipsoidWalk>& walks) {
+    std::vector<double> rings(walks.size());
+    for (std::size_t i = 0; i < walks.size(); ++i) rings[i] = walks[i].signed_area_m2;
+    return has_area ? polygon_area(paths, rings) : 0.0;
+  };
   const double mean_lat = lat_count ? lat_sum.value() / lat_count : 0;
-  const double lift = 1 + options.height_m / gaussian_mean_radius_m(source.ellipsoid, mean_lat);
-  const double e_s_length = length_s.value();
-  const double e_s_area = has_area ? polygon_area(paths, area_s) : 0;
+  const double radius_m = gaussian_mean_radius_m(source.ellipsoid, mean_lat);
+  const double lift = 1 + height_m / radius_m;
+  const double e_s_length = sum_length(walk_s);
+  const double e_s_area = sum_area(walk_s);
   const double ref_length = e_s_length * lift;
   const double ref_area = e_s_area * lift * lift;
 
@@ -743,56 +1101,91 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
     if (has_area) r.area = truth_only_budget(ref_area, e_s_area, e_p_area);
     return r;
   };
-
-  // 3. Datum transformation and projection of the vertices.
-  std::vector<Coord> points_p, points_xy;
-  if (std::string why = transform_vertices(paths, points_p, points_xy, points_s); !why.empty()) {
-    return fail(why, kNaN, kNaN);
+  if (!transform_failure.empty()) return fail(transform_failure, kNaN, kNaN);
+  bool beyond_margin = false;
+  const std::string area_of_use_message = area_of_use_check(paths, points_s, beyond_margin);
+  if (beyond_margin) {
+    return separate_target ? fail(area_of_use_message, kNaN, kNaN)
+                           : fail(area_of_use_message, e_s_length, e_s_area);
   }
 
   // 4. E_P: the same measures on the target's ellipsoid after the datum transformation.
-  std::vector<EllipsoidWalk> walk_p_own;
   const std::vector<EllipsoidWalk>* walk_p = &walk_s;
-  double e_p_length = e_s_length, e_p_area = e_s_area;
-  if (op_full) {
-    walk_p_own.resize(paths.size());
-    CompensatedSum length_p;
-    std::vector<double> area_p(paths.size(), 0.0);
-    for (std::size_t i = 0; i < paths.size(); ++i) {
-      walk_p_own[i] = walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
-      length_p.add(walk_p_own[i].length_m);
-      area_p[i] = walk_p_own[i].signed_area_m2;
+  if (separate_target) {
+    for (std::size_t i = 0; i < paths.size() && !straight; ++i) {
+      walk_p_own[i] = edges.model == EdgeModel::rhumb
+                          ? walk_on_ellipsoid(*rhumb_p, paths[i].lonlat_p, paths[i].closed())
+                          : walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
     }
     walk_p = &walk_p_own;
-    e_p_length = length_p.value();
-    e_p_area = has_area ? polygon_area(paths, area_p) : 0;
   }
+  const double e_p_length = separate_target ? sum_length(walk_p_own) : e_s_length;
+  const double e_p_area = separate_target ? sum_area(walk_p_own) : e_s_area;
 
-  // 5. G (straight chords) and D (projected geodesics), path by path, with the bearing of every chord.
+  // 5. G (straight chords) and D (projected true edges), path by path, with the bearing of every chord.
   CompensatedSum g_length, d_length;
   std::vector<double> g_area2(paths.size(), 0.0), d_area2(paths.size(), 0.0);
   std::vector<Coord> samples = points_p;
   BearingExtreme bearing;
   std::size_t densified = 0;
+  PJ* c_to_p = separate_target ? op_c_to_p.get() : op_c_to_s.get();
   for (std::size_t i = 0; i < paths.size(); ++i) {
     const WorkPath& path = paths[i];
     const EllipsoidWalk& walk = (*walk_p)[i];
-    g_length.add(planar_length(path.xy, path.closed()));
+    const double path_g_length = planar_length(path.xy, path.closed());
+    g_length.add(path_g_length);
     if (path.closed()) g_area2[i] = planar_area2(path.xy);
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
-    PathDensifier densifier(geod_p, op_fast.get(), tolerance_units, path, i, samples, densified);
+    PathDensifier densifier(op_fast.get(), tolerance_units, path, i, samples, densified);
+    GeographicLib::GeodesicLine geodesic;
+    GeographicLib::RhumbLine* rhumb = nullptr;
+    std::optional<GeographicLib::RhumbLine> rhumb_line;
     for (std::size_t e = 0; e < path.edge_count(); ++e) {
       const std::size_t j = (e + 1) % path.lonlat_p.size();
-      const double azimuth = walk.azimuth_deg[e];
-      // Bearing: grid bearing of the chord minus the geodesic azimuth at the start vertex.
+      // Bearing: grid bearing of the chord minus the true edge's azimuth at the start vertex.
       bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, walk.sin_azimuth[e],
                   walk.cos_azimuth[e]);
-      if (std::string why = densifier.edge(e, j, azimuth, walk.edge_m[e]); !why.empty()) {
+      if (straight && edge_crs_is_target) continue;  // the true edges are the chords: D = G
+      const Coord& a = path.lonlat_p[e];
+      PathDensifier::Curve curve;
+      if (edges.model == EdgeModel::geodesic) {
+        geodesic = geod_p.Line(a.y, a.x, walk.azimuth_deg[e],
+                               GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
+                                   GeographicLib::Geodesic::DISTANCE_IN);
+        curve = [&geodesic](double s) {
+          Coord c;
+          geodesic.Position(s, c.y, c.x);
+          return c;
+        };
+      } else if (edges.model == EdgeModel::rhumb) {
+        rhumb_line.emplace(rhumb_p->Line(a.y, a.x, walk.azimuth_deg[e]));
+        rhumb = &*rhumb_line;
+        curve = [rhumb](double s) {
+          Coord c;
+          rhumb->Position(s, c.y, c.x);
+          return c;
+        };
+      } else {
+        const Coord c0 = path.c_xy[e], c1 = path.c_xy[j];
+        const double length = walk.edge_param[e];
+        curve = [c0, c1, length, c_to_p](double s) {
+          const double t = length > 0 ? s / length : 0;
+          const PJ_COORD out = proj_trans(c_to_p, PJ_FWD, proj_coord(c0.x + t * (c1.x - c0.x),
+                                                                       c0.y + t * (c1.y - c0.y), 0, 0));
+          return Coord{out.lp.lam, out.lp.phi};
+        };
+      }
+      if (std::string why = densifier.edge(e, j, curve, walk.edge_param[e]); !why.empty()) {
         return fail(why, e_p_length, e_p_area);
       }
     }
-    d_length.add(densifier.length_units());
-    if (path.closed()) d_area2[i] = densifier.area2_units();
+    if (straight && edge_crs_is_target) {
+      d_length.add(path_g_length);
+      d_area2[i] = g_area2[i];
+    } else {
+      d_length.add(densifier.length_units());
+      if (path.closed()) d_area2[i] = densifier.area2_units();
+    }
   }
   r.densified_points = densified;
 
@@ -814,7 +1207,14 @@ AuditResult Auditor::Impl::audit(const Geometry& g) const {
     }
     r.area = make_budget(ref_area, e_s_area, e_p_area, polygon_area(paths, d_area), polygon_area(paths, g_area));
   }
-  r.message = outside_area_warning(paths, points_s);
+  // Combined factor: mean grid scale × elevation factor R_G/(R_G + h).
+  const double mean_scale = r.length && r.length->ellipsoid_target > 0
+                                ? r.length->grid / r.length->ellipsoid_target
+                                : (r.distortion ? std::sqrt(0.5 * (r.distortion->areal_scale_min +
+                                                                   r.distortion->areal_scale_max))
+                                                : kNaN);
+  if (std::isfinite(mean_scale)) r.combined_factor = mean_scale * radius_m / (radius_m + height_m);
+  r.message = area_of_use_message;
   apply_verdict(r);
   return r;
 }
@@ -829,9 +1229,11 @@ Auditor& Auditor::operator=(Auditor&&) noexcept = default;
 
 Auditor Auditor::clone() const { return Auditor(impl_->clone()); }
 
-AuditResult Auditor::audit(const Geometry& geometry) const {
+AuditResult Auditor::audit(const Geometry& geometry) const { return audit(geometry, impl_->options.height_m); }
+
+AuditResult Auditor::audit(const Geometry& geometry, double height_m) const {
   try {
-    return impl_->audit(geometry);
+    return impl_->audit(geometry, height_m);
   } catch (const std::exception& e) {  // never let one feature stop a batch
     AuditResult r;
     r.type = geometry.type;
@@ -850,8 +1252,9 @@ std::vector<AuditResult> Auditor::audit(const std::vector<Geometry>& geometries)
 }
 
 PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
-  if (!impl_->op_full) return impl_->factors_p(lon_deg, lat_deg);
-  std::vector<Coord> pt{{lon_deg, lat_deg}};
+  const Coord lonlat = impl_->to_source_lonlat({lon_deg, lat_deg});
+  if (!impl_->op_full) return impl_->factors_p(lonlat.x, lonlat.y);
+  std::vector<Coord> pt{lonlat};
   // Through the datum transformation to the target plane, then back to its geographic CRS.
   auto& self = *impl_;
   proj_trans_generic(self.op_full.get(), PJ_FWD, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
@@ -863,8 +1266,9 @@ PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
 }
 
 Coord Auditor::project(double lon_deg, double lat_deg) const {
+  const Coord lonlat = impl_->to_source_lonlat({lon_deg, lat_deg});
   PJ* op = impl_->op_full ? impl_->op_full.get() : impl_->op_proj.get();
-  const PJ_COORD out = proj_trans(op, PJ_FWD, proj_coord(lon_deg, lat_deg, 0, 0));
+  const PJ_COORD out = proj_trans(op, PJ_FWD, proj_coord(lonlat.x, lonlat.y, 0, 0));
   Coord c{out.xy.x, out.xy.y};
   if (!finite(c)) c = {kNaN, kNaN};
   return c;
@@ -874,5 +1278,31 @@ const AuditOptions& Auditor::options() const noexcept { return impl_->options; }
 const CrsInfo& Auditor::source() const noexcept { return impl_->source; }
 const CrsInfo& Auditor::target() const noexcept { return impl_->target; }
 const TransformInfo& Auditor::transform() const noexcept { return impl_->transform; }
+const EdgeSpec& Auditor::edges() const noexcept { return impl_->edges; }
+
+EdgeSpec EdgeSpec::parse(std::string_view text) {
+  std::string t(text);
+  t.erase(0, t.find_first_not_of(" \t"));
+  t.erase(t.find_last_not_of(" \t") + 1);
+  std::string lower = t;
+  for (char& ch : lower) ch = static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+  if (lower == "geodesic") return {EdgeModel::geodesic, ""};
+  if (lower == "rhumb") return {EdgeModel::rhumb, ""};
+  const std::string prefix = "straight-in=";
+  if (lower.compare(0, prefix.size(), prefix) == 0 && t.size() > prefix.size()) {
+    return {EdgeModel::straight, t.substr(prefix.size())};
+  }
+  throw Error(ErrorCode::invalid_argument, "unknown edge model '" + std::string(text) +
+                                               "': use geodesic, rhumb or straight-in=CRS");
+}
+
+std::string EdgeSpec::to_string() const {
+  switch (model) {
+    case EdgeModel::geodesic: return "geodesic";
+    case EdgeModel::rhumb: return "rhumb";
+    case EdgeModel::straight: return "straight-in=" + crs;
+  }
+  return "";
+}
 
 }  // namespace gridtruth

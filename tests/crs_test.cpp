@@ -236,9 +236,18 @@ TEST(AuditorCrs, GeographicTargetIsUnsupported) {
   expect_error([] { Auditor a(make_options("EPSG:4326", "EPSG:4258")); }, ErrorCode::unsupported_crs, "EPSG:4258");
 }
 
-TEST(AuditorCrs, ProjectedSourceIsUnsupported) {
-  expect_error([] { Auditor a(make_options("EPSG:32632", "EPSG:32633")); }, ErrorCode::unsupported_crs,
-               "EPSG:32632");
+TEST(AuditorCrs, GeocentricSourceIsUnsupported) {
+  // A source must be geographic or projected; EPSG:4978 is WGS 84 geocentric (X, Y, Z).
+  expect_error([] { Auditor a(make_options("EPSG:4978", "EPSG:32633")); }, ErrorCode::unsupported_crs,
+               "EPSG:4978");
+}
+
+TEST(AuditorCrs, ProjectedSourceDefaultsToEdgesStraightInItsPlane) {
+  // A projected source is taken to its base geographic CRS; its edges default to straight in its own plane.
+  const Auditor a(make_options("EPSG:32632", "EPSG:32633"));
+  EXPECT_EQ(a.source().kind, gridtruth::CrsKind::projected);
+  EXPECT_EQ(a.edges().model, gridtruth::EdgeModel::straight);
+  EXPECT_EQ(a.edges().crs, "EPSG:32632");
 }
 
 TEST(AuditorCrs, UnknownCrsThrowsNamingIt) {

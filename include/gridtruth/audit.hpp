@@ -15,6 +15,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "gridtruth/crs.hpp"
@@ -24,12 +25,42 @@
 namespace gridtruth {
 
 /// How an auditor is set up. Units are in the member names.
+/// What the line between two consecutive vertices of the input means: the same vertices joined by different
+/// curves enclose different areas.
+enum class EdgeModel {
+  geodesic,  ///< the shortest path on the ellipsoid (survey lines, most geodetic data)
+  rhumb,     ///< the loxodrome of constant azimuth (parallels and meridians are rhumb lines; zones drawn on them)
+  straight,  ///< straight in the plane of a projected CRS (data digitised or surveyed on that grid)
+};
+
+/// An edge model and, for `straight`, the CRS in whose plane the edges are straight.
+struct EdgeSpec {
+  EdgeModel model = EdgeModel::geodesic;
+  std::string crs;  ///< for `straight`: any CRS definition PROJ accepts; must be projected
+
+  /// Parses "geodesic", "rhumb" or "straight-in=CRS" (e.g. "straight-in=EPSG:26915").
+  /// Throws Error(invalid_argument) naming the text otherwise.
+  static EdgeSpec parse(std::string_view text);
+  /// "geodesic", "rhumb" or "straight-in=CRS".
+  std::string to_string() const;
+};
+
+/// How an auditor is set up. Units are in the member names.
 struct AuditOptions {
-  std::string source_crs = "EPSG:4326";  ///< geographic CRS of the input coordinates (lon, lat order)
+  /// CRS of the input coordinates: geographic (longitude, latitude in degrees, whatever the CRS's official axis
+  /// order) or projected (easting, northing in the CRS's linear unit); projected vertices are taken to its base
+  /// geographic CRS, whose ellipsoid carries the truth.
+  std::string source_crs = "EPSG:4326";
   std::string target_crs;                ///< projected CRS whose grid is audited; required
-  double height_m = 0;                   ///< constant ellipsoidal height of the features (ground lift)
+  double height_m = 0;                   ///< ellipsoidal height of the features (ground lift), unless audit() is
+                                         ///< given one per feature; within [-10 000 m, 100 000 m]
   double densify_tolerance_m = 0.001;    ///< largest planar deviation of a densified edge from the true edge
   std::vector<Tolerance> tolerances;     ///< limits for the verdict; empty → no verdict
+  /// What edges mean. Absent: geodesic for a geographic source, straight in the source CRS for a projected one.
+  std::optional<EdgeSpec> edges;
+  /// How far (degrees of longitude or latitude) a vertex may lie beyond the bounding box of the target CRS's area
+  /// of use before the feature is `unmeasurable`; within it the feature is measured with a warning.
+  double area_of_use_margin_deg = 5;
 };
 
 /// One measure (length in m, or area in m²) with its budget.
@@ -90,6 +121,11 @@ struct AuditResult {
   std::optional<Distortion> distortion;            ///< absent when nothing could be projected
   std::optional<double> bearing_error_max_arcsec;  ///< largest |grid bearing of chord − geodesic azimuth|
   std::size_t densified_points = 0;                ///< points added by densification
+  double height_m = 0;                             ///< the ellipsoidal height used for the ground lift
+  /// The combined (scale × elevation) factor a surveyor multiplies ground distances by to get grid distances:
+  /// mean grid scale × R_G/(R_G + h). The mean grid scale is G/E_P of the length (perimeter for polygons), and
+  /// √(areal scale) at a point feature. Absent when the feature could not be measured.
+  std::optional<double> combined_factor;
   Verdict verdict = Verdict::none;
   std::vector<std::string> failed;  ///< the tolerances that failed, canonical text (empty on pass)
 };
@@ -131,6 +167,9 @@ class Auditor {
 
   /// Audits one feature. Never throws for a bad feature.
   AuditResult audit(const Geometry& geometry) const;
+  /// Audits one feature at its own ellipsoidal height (metres), instead of AuditOptions::height_m. A height that
+  /// is not finite or out of range makes the feature `invalid`.
+  AuditResult audit(const Geometry& geometry, double height_m) const;
   /// Audits a batch, result i for geometry i.
   std::vector<AuditResult> audit(const std::vector<Geometry>& geometries) const;
 
@@ -145,6 +184,8 @@ class Auditor {
   const CrsInfo& source() const noexcept;
   const CrsInfo& target() const noexcept;
   const TransformInfo& transform() const noexcept;
+  /// The edge model in force (AuditOptions::edges, or its default).
+  const EdgeSpec& edges() const noexcept;
 
  private:
   struct Impl;
