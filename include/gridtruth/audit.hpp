@@ -35,7 +35,7 @@ enum class EdgeModel {
 
 /// An edge model and, for `straight`, the CRS in whose plane the edges are straight.
 struct EdgeSpec {
-  EdgeModel model = EdgeModel::geodesic;
+  EdgeModel model = EdgeModel::geodesic;  ///< what the edges mean
   std::string crs;  ///< for `straight`: any CRS definition PROJ accepts; must be projected
 
   /// Parses "geodesic", "rhumb" or "straight-in=CRS" (e.g. "straight-in=EPSG:26915").
