@@ -8,15 +8,19 @@ if(DOXYGEN_FOUND)
      ${PROJECT_SOURCE_DIR}/docs/mainpage.dox ${PROJECT_SOURCE_DIR}/docs/header_gaps.dox)
   string(REPLACE ";" " " GRIDTRUTH_DOXYGEN_INPUT "${GRIDTRUTH_PUBLIC_HEADERS}")
   configure_file(${PROJECT_SOURCE_DIR}/cmake/Doxyfile.in ${GRIDTRUTH_DOCS_DIR}/Doxyfile @ONLY)
+  # The stamp is written only when Doxygen succeeds (Doxygen writes the HTML even when it fails on a warning), so
+  # a failed build is retried, and fails again, until the warning is fixed.
   add_custom_command(
-    OUTPUT ${GRIDTRUTH_DOCS_DIR}/html/index.html
+    OUTPUT ${GRIDTRUTH_DOCS_DIR}/docs.stamp
+    COMMAND ${CMAKE_COMMAND} -E remove ${GRIDTRUTH_DOCS_DIR}/docs.stamp
     COMMAND ${CMAKE_COMMAND} -E remove_directory ${GRIDTRUTH_DOCS_DIR}/html
     COMMAND Doxygen::doxygen ${GRIDTRUTH_DOCS_DIR}/Doxyfile
+    COMMAND ${CMAKE_COMMAND} -E touch ${GRIDTRUTH_DOCS_DIR}/docs.stamp
     DEPENDS ${GRIDTRUTH_PUBLIC_HEADERS} ${GRIDTRUTH_DOCS_DIR}/Doxyfile
     WORKING_DIRECTORY ${GRIDTRUTH_DOCS_DIR}
     COMMENT "Doxygen: API documentation in ${GRIDTRUTH_DOCS_DIR}/html"
     VERBATIM)
-  add_custom_target(docs DEPENDS ${GRIDTRUTH_DOCS_DIR}/html/index.html)
+  add_custom_target(docs DEPENDS ${GRIDTRUTH_DOCS_DIR}/docs.stamp)
 else()
   add_custom_target(docs
     COMMAND ${CMAKE_COMMAND} -E echo "docs: Doxygen not found; install it with cmake/install-deps.sh"
