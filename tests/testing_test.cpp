@@ -288,6 +288,16 @@ TEST(KeepsScaleWithin, HandlesABoxAcrossTheAntimeridian) {
   EXPECT_THAT(zone1, Not(KeepsScaleWithin(box, "length=1:5000")));  // 200 ppm
 }
 
+TEST(KeepsScaleWithin, NeedsAGeographicSourceCrs) {
+  gridtruth::AuditOptions o;
+  o.source_crs = "EPSG:32631";  // projected: its coordinates are not longitudes and latitudes
+  o.target_crs = "EPSG:32631";
+  const Auditor projected_source(o);
+  ::testing::StringMatchResultListener listener;
+  EXPECT_FALSE(::testing::ExplainMatchResult(KeepsScaleWithin(zone31_band, "area=1%"), projected_source, &listener));
+  EXPECT_THAT(listener.str(), HasSubstr("source CRS EPSG:32631 is not geographic"));
+}
+
 TEST(KeepsScaleWithinAssertion, BothWaysAndArguments) {
   EXPECT_TRUE(gridtruth::testing::keeps_scale_within(utm31(), zone31_band, "length=1:2400"));
   const ::testing::AssertionResult r = gridtruth::testing::keeps_scale_within(utm31(), zone31_band, "length=1:2600");

@@ -29,6 +29,7 @@
 #include <vector>
 
 #include "gridtruth/audit.hpp"
+#include "gridtruth/crs.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/geometry.hpp"
 #include "gridtruth/tolerance.hpp"
@@ -299,6 +300,11 @@ struct PointCheck {
 /// projected and within the bound.
 inline bool check_region(const Auditor& auditor, const LonLatBox& box, const Tolerance& bound, int samples_per_side,
                          std::ostream& out) {
+  if (auditor.source().kind != CrsKind::geographic) {
+    out << "the auditor's source CRS " << auditor.source().definition
+        << " is not geographic: build the auditor with a geographic source_crs to check a longitude/latitude box";
+    return false;
+  }
   const double east = box.east_deg < box.west_deg ? box.east_deg + 360 : box.east_deg;
   const int n = samples_per_side;
   std::vector<PointCheck> points;
@@ -426,7 +432,7 @@ inline ::testing::PolymorphicMatcher<detail::StaysWithinMatcher> StaysWithin(con
 /// 11); at each point Auditor::factors() gives Tissot's semi-axes a, b (relative error about 1e-9). "area=…"
 /// limits |a·b − 1| (areal scale); "length=…" limits max(|a − 1|, |b − 1|) (the scale in every direction), both
 /// in ppm, e.g. "area=0.05%" (500 ppm) or "length=1:10000" (100 ppm). A point where the projection fails does not
-/// match. Sampling checks the grid points only: extremes between them are missed, so choose samples_per_side so
+/// match, and so does an auditor whose source CRS is not geographic. Sampling checks the grid points only: extremes between them are missed, so choose samples_per_side so
 /// that the scale varies little between neighbours, and include the places where the extremes lie (a transverse
 /// Mercator's central meridian, a conic's standard parallels and edges).
 /// Throws Error(invalid_argument) for an absolute or bearing bound, a malformed box or fewer than 2 samples per side.
