@@ -4,7 +4,10 @@
 
 #include <GeographicLib/Geodesic.hpp>
 #include <GeographicLib/PolygonArea.hpp>
+#include <GeographicLib/Rhumb.hpp>
 #include <gtest/gtest.h>
+
+#include <algorithm>
 
 #include <cmath>
 #include <cstdint>
@@ -13,6 +16,7 @@
 #include <string>
 #include <vector>
 
+#include "gridtruth/audit.hpp"
 #include "gridtruth/geometry.hpp"
 
 namespace gridtruth::test {
@@ -50,6 +54,64 @@ inline RingMeasure geodesic_ring(const Path& ring, const Spheroid& s) {
   poly.Compute(/*reverse=*/false, /*sign=*/true, m.perimeter_m, area);
   m.area_m2 = std::abs(area);
   return m;
+}
+
+/// Rhumb-line (loxodrome) perimeter and |area| of one ring on an ellipsoid, with GeographicLib's PolygonAreaRhumb
+/// directly (Karney, "The area of rhumb polygons", Stud. Geophys. Geod. 2024; GeographicLib's Rhumb class).
+inline RingMeasure rhumb_ring(const Path& ring, const Spheroid& s) {
+  const GeographicLib::Rhumb rhumb(s.a_m, s.f, /*exact=*/true);
+  GeographicLib::PolygonAreaRhumb poly(rhumb);
+  std::size_t n = ring.size();
+  if (n > 1 && ring.front().x == ring.back().x && ring.front().y == ring.back().y) --n;  // closing vertex
+  for (std::size_t i = 0; i < n; ++i) poly.AddPoint(ring[i].y, ring[i].x);
+  RingMeasure m;
+  double area = 0;
+  poly.Compute(/*reverse=*/false, /*sign=*/true, m.perimeter_m, area);
+  m.area_m2 = std::abs(area);
+  return m;
+}
+
+/// Snyder's authalic function q(φ) (Snyder 1987, "Map Projections: A Working Manual", USGS PP 1395, eq. 3-12):
+///   q = (1 − e²) [sin φ / (1 − e² sin² φ) − 1/(2e) ln((1 − e sin φ)/(1 + e sin φ))],
+/// with the logarithm written as the identical 2·atanh(e sin φ) to keep its precision near the equator.
+/// The area between the equator and latitude φ over Δλ radians of longitude is (a²/2)·Δλ·q(φ).
+inline double authalic_q(const Spheroid& s, double lat_deg) {
+  const double e2 = s.f * (2 - s.f);
+  const double e = std::sqrt(e2);
+  const double sphi = std::sin(lat_deg * pi / 180);
+  return (1 - e2) * (sphi / (1 - e2 * sphi * sphi) + std::atanh(e * sphi) / e);
+}
+
+/// Area of the quadrangle bounded by two meridians Δλ apart and the parallels φ1 < φ2 (closed form from
+/// Snyder 1987 eq. 3-12: (a²/2)·Δλ·[q(φ2) − q(φ1)]).
+inline double quadrangle_area_m2(const Spheroid& s, double lat1_deg, double lat2_deg, double dlon_deg) {
+  return 0.5 * s.a_m * s.a_m * (dlon_deg * pi / 180) * (authalic_q(s, lat2_deg) - authalic_q(s, lat1_deg));
+}
+
+/// Twice the signed area of a planar ring (shoelace, centred on the first vertex), in the ring's unit squared.
+inline double shoelace2(const std::vector<Coord>& xy) {
+  double twice = 0;
+  if (xy.empty()) return 0;
+  const Coord o = xy.front();
+  for (std::size_t i = 0; i < xy.size(); ++i) {
+    const Coord& a = xy[i];
+    const Coord& b = xy[(i + 1) % xy.size()];
+    twice += (a.x - o.x) * (b.y - o.y) - (b.x - o.x) * (a.y - o.y);
+  }
+  return twice;
+}
+
+/// The telescoping identities of the error budget (DEVELOPERS.md, "The error budget"), to rounding.
+inline void expect_budget_telescopes(const Budget& b, const std::string& what) {
+  const double scale = std::max({std::abs(b.reference), std::abs(b.grid), std::abs(b.densified_grid)});
+  const double rounding = 1e-12 * scale;
+  EXPECT_NEAR(b.error, b.grid - b.reference, rounding) << what;
+  EXPECT_NEAR(b.error, b.from_edges + b.from_scale + b.from_datum + b.from_height, rounding) << what;
+  EXPECT_NEAR(b.from_edges, b.grid - b.densified_grid, rounding) << what;
+  EXPECT_NEAR(b.from_scale, b.densified_grid - b.ellipsoid_target, rounding) << what;
+  EXPECT_NEAR(b.from_datum, b.ellipsoid_target - b.ellipsoid_source, rounding) << what;
+  EXPECT_NEAR(b.from_height, b.ellipsoid_source - b.reference, rounding) << what;
+  EXPECT_NEAR(b.error_ppm, 1e6 * b.error / b.reference, 1e-9 * std::abs(b.error_ppm) + 1e-12) << what;
 }
 
 /// Geodesic length of a line string.
