@@ -444,6 +444,13 @@ class PathDensifier {
     curve_ = &curve;
     const double edge_m = length;
     edge_index_ = e;
+    if (!(edge_m > 1e-9)) {
+      // A true edge of no length (e.g. two vertices on the same pole at different longitudes): its image is the
+      // limit of the boundary there, the chord itself.
+      const Coord p0 = path_.xy[e], p1 = path_.xy[j];
+      accept(p0, {0.5 * (p0.x + p1.x), 0.5 * (p0.y + p1.y)}, p1);
+      return {};
+    }
     // The first midpoint joins the distortion samples only when the edge needs refining: along an edge that is
     // straight to within the tolerance the scale varies linearly to within ~(L/R)², so its extremes are at the
     // vertices.
