@@ -167,6 +167,9 @@ class CliTest : public ::testing::Test {
     r.out = slurp(out);
     r.err = slurp(err);
     r.rows = parse_csv(r.out);
+    // Under the sanitizer preset a report can hide behind an expected exit status of 1: look for it.
+    EXPECT_EQ(r.err.find("Sanitizer"), std::string::npos) << r.err;
+    EXPECT_EQ(r.err.find("runtime error:"), std::string::npos) << r.err;
     return r;
   }
   CliRun audit(std::vector<std::string> args, const std::string* stdin_text = nullptr) {
