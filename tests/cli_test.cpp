@@ -7,6 +7,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -510,6 +511,36 @@ TEST_F(CliTest, OutWritesTheFileAndNothingToStandardOutput) {
   EXPECT_THAT(r.err, HasSubstr("12 read, 11 ok, 1 invalid, 0 unmeasurable"));
   EXPECT_EQ(r.err.find('\r'), std::string::npos);
   EXPECT_THAT(r.err, HasSubstr("licensed survey practice and local codes"));
+}
+
+TEST_F(CliTest, ProgressLineOnlyOnATerminalAndOnlyAfterASecond) {
+  // Issue 3: a progress line on standard error for inputs that take more than a second, not when standard
+  // error is not a terminal. script(1) (util-linux) gives the command a terminal.
+  if (std::system("command -v script > /dev/null 2>&1") != 0) GTEST_SKIP() << "script(1) is not installed";
+  std::string big;
+  for (int k = 0; k < 150000; ++k) {
+    const double lon = -95.9 + (k % 580) * 0.01, lat = 30 + (k / 580) * 0.07;
+    big += R"({"type":"Polygon","coordinates":[[[)" + std::to_string(lon) + "," + std::to_string(lat) + "],[" +
+           std::to_string(lon + 0.01) + "," + std::to_string(lat) + "],[" + std::to_string(lon + 0.01) + "," +
+           std::to_string(lat + 0.01) + "],[" + std::to_string(lon) + "," + std::to_string(lat) + "]]]}\n";
+  }
+  spit(path("big.ndjson"), big);
+  const std::string command = shell_quote(cli) + " audit " + shell_quote(path("big.ndjson")) +
+                              " --crs EPSG:32615 --threads 1 --out " + shell_quote(path("big.csv"));
+  const auto start = std::chrono::steady_clock::now();
+  const int raw = std::system(("script -qec " + shell_quote(command) + " /dev/null > " +
+                               shell_quote(path("tty.txt")) + " 2>&1")
+                                  .c_str());
+  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  ASSERT_TRUE(WIFEXITED(raw));
+  EXPECT_EQ(WEXITSTATUS(raw), 0);
+  const std::string tty = slurp(path("tty.txt"));
+  EXPECT_THAT(tty, HasSubstr("150000 read"));
+  if (seconds > 2) EXPECT_THAT(tty, HasSubstr("features audited in")) << "took " << seconds << " s";
+  // The same run without a terminal: no progress line.
+  const CliRun plain = audit({path("big.ndjson"), "--crs", "EPSG:32615", "--threads", "1", "--out", path("big.csv")});
+  EXPECT_EQ(plain.err.find("features audited in"), std::string::npos);
+  EXPECT_EQ(plain.err.find('\r'), std::string::npos);
 }
 
 TEST_F(CliTest, ThreadsKeepInputOrderAndResults) {
