@@ -206,12 +206,14 @@ int run_audit(const AuditArgs& args) {
   return summary.exit_status() == 0 ? exit_ok : exit_findings;
 }
 
+const char* audit_summary_line = "audit every feature of a file on the grid of a projected CRS";
+
 const char* audit_description =
-    "Audits every feature of INPUT against the grid of the projected CRS TARGET: the true (geodesic) length and\n"
-    "area on the ellipsoid, the same measured on the grid, and the error between them split into its parts\n"
-    "(straight edges, projection scale, datum change, height), with distortion statistics and a pass/fail\n"
-    "verdict against the tolerances. One CSV row per input feature, in input order, on standard output or\n"
-    "--out; a summary on standard error and, with --summary, as JSON.";
+    "Audits every feature of INPUT against the grid of the projected CRS TARGET: the true (geodesic) length\n"
+    "and area on the ellipsoid, the same measured on the grid, and the error between them split into its\n"
+    "parts (straight edges, projection scale, datum change, height), with distortion statistics and a\n"
+    "pass/fail verdict against the tolerances. One CSV row per input feature, in input order, on standard\n"
+    "output or --out; a summary on standard error and, with --summary, as JSON.\n";
 
 const char* audit_footer =
     "\nInput formats:\n"
@@ -225,6 +227,7 @@ const char* audit_footer =
     "Tolerances (--tolerance, comma-separated metric=limit):\n"
     "  area=0.1%   length=100ppm   length=1:10000   area=50m2   area=0.5ha   length=0.05m   bearing=20arcsec\n"
     "  A feature passes when every tolerance that applies to it holds; no tolerance, no verdict.\n"
+    "  Length tolerances also apply to polygon perimeters.\n"
     "\n"
     "CSV columns (metres, square metres, degrees, arcseconds; empty where a value does not apply):\n"
     "  id, geometry_type, status (ok | invalid | unmeasurable), message, vertices,\n"
@@ -266,7 +269,7 @@ int main(int argc, char** argv) {
   app.footer(std::string("\nRun 'gridtruth audit --help' for the audit command.\n\n") + cli::caution_text + "\n");
 
   AuditArgs args;
-  CLI::App* audit = app.add_subcommand("audit", audit_description);
+  CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
   audit->add_option("INPUT", args.input, "GeoJSON, newline-delimited GeoJSON or CSV with WKT; '-' for standard input")
       ->required();
   audit->add_option("--crs", args.target_crs, "target projected CRS: EPSG:XXXX, WKT, PROJJSON or a PROJ string")
@@ -298,7 +301,11 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    if (e.get_exit_code() == 0) {  // --help, --version
+      // The audit command's own help opens with the long description (the command list keeps the short one).
+      if (app.got_subcommand(audit)) audit->description(audit_description);
+      return app.exit(e);
+    }
     std::string what = e.what();
     for (auto& c : what)
       if (c == '\n') c = ' ';
