@@ -139,6 +139,7 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                                  {"is_identity", t.is_identity},
                                  {"is_ballpark", t.is_ballpark},
                                  {"proj_string", t.proj_string}};
+    j["edges"] = a.edges().to_string();
     json tolerances = json::array();
     for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());
     j["options"] = {{"height_m", a.options().height_m},
@@ -203,6 +204,7 @@ std::string AuditSummary::to_text(const Context& c) const {
     else s << " (accuracy unknown)";
     if (t.is_ballpark) s << " [ballpark: approximate only]";
     s << "\n";
+    s << "  edges:        " << a.edges().to_string() << "\n";
     std::string tolerances;
     for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.to_string();
     s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";

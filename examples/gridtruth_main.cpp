@@ -41,6 +41,8 @@ struct AuditArgs {
   std::string target_crs;
   std::string source_crs = "EPSG:4326";
   double height_m = 0;
+  std::string height_field;
+  std::string edges;
   std::string tolerance;
   double densify_tolerance_m = 0.001;
   std::string id_field;
@@ -102,10 +104,12 @@ int run_audit(const AuditArgs& args) {
   options.target_crs = args.target_crs;
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
+  const bool with_heights = args.height_m != 0 || !args.height_field.empty();
   cli::SummaryUnits units;
   ReaderOptions reader_options;
   try {
     options.tolerances = Tolerance::parse_list(args.tolerance);
+    if (!args.edges.empty()) options.edges = EdgeSpec::parse(args.edges);
     units = cli::summary_units(args.units);
     reader_options.format = parse_input_format(args.format);
   } catch (const Error& e) {
@@ -113,6 +117,7 @@ int run_audit(const AuditArgs& args) {
   }
   reader_options.id_field = args.id_field;
   reader_options.wkt_field = args.wkt_field;
+  reader_options.height_field = args.height_field;
 
   std::optional<Auditor> auditor;
   try {
@@ -154,6 +159,7 @@ int run_audit(const AuditArgs& args) {
       }
     }
     writer.emplace(*out);
+    writer->with_combined_factor(with_heights);
     writer->write_header();
   };
 
@@ -238,6 +244,14 @@ const char* audit_footer =
     "  angular_distortion_max_deg, convergence_min_deg, convergence_max_deg, bearing_error_max_arcsec, verdict\n"
     "  error = grid - true = from_edges + from_scale + from_datum + from_height; '+' means the grid overstates.\n"
     "  A polygon's length is its perimeter (all rings).\n"
+    "  With --height or --height-field a last column, combined_factor, gives mean grid scale x R/(R + h):\n"
+    "  the factor a surveyor multiplies ground distances by to get grid distances.\n"
+    "\n"
+    "Edges (--edges): the same vertices joined by different curves enclose different areas.\n"
+    "  geodesic          shortest path on the ellipsoid (default for a geographic --source-crs)\n"
+    "  rhumb             constant azimuth: parallels and meridians (zones drawn along them)\n"
+    "  straight-in=CRS   straight in that projected CRS's plane, e.g. where the data were digitised\n"
+    "                    (default for a projected --source-crs: straight in the source CRS)\n"
     "\n"
     "Summary units (--units; the CSV stays in SI units):\n"
     "  metric           m, m2\n"
@@ -256,6 +270,7 @@ const char* audit_footer =
     "      --tolerance length=1:10000,bearing=20arcsec --height 350 --out route_audit.csv\n"
     "  gridtruth audit units.geojson --crs EPSG:5070 --units acre --summary summary.json > rows.csv\n"
     "  cat features.ndjson | gridtruth audit - --format ndjson --crs \"+proj=utm +zone=15 +datum=WGS84\"\n"
+    "  gridtruth audit lots.csv --source-crs EPSG:2227 --crs EPSG:2227 --height-field elev_m\n"
     "\n";
 
 }  // namespace
@@ -274,10 +289,18 @@ int main(int argc, char** argv) {
       ->required();
   audit->add_option("--crs", args.target_crs, "target projected CRS: EPSG:XXXX, WKT, PROJJSON or a PROJ string")
       ->required();
-  audit->add_option("--source-crs", args.source_crs, "geographic CRS of the input coordinates (longitude, latitude)")
+  audit->add_option("--source-crs", args.source_crs,
+                    "CRS of the input coordinates: geographic (longitude, latitude) or projected (easting, northing "
+                    "in its unit)")
       ->capture_default_str();
   audit->add_option("--height", args.height_m, "ellipsoidal height of the features in metres (ground lift)")
       ->capture_default_str();
+  audit->add_option("--height-field", args.height_field,
+                    "property or column holding each feature's ellipsoidal height in metres (instead of --height)")
+      ->excludes(audit->get_option("--height"));
+  audit->add_option("--edges", args.edges,
+                    "what an edge means: geodesic (default for geographic input), rhumb, or straight-in=CRS "
+                    "(default for projected input: straight in the source CRS)");
   audit->add_option("--tolerance", args.tolerance, "comma-separated limits, e.g. area=0.1%,length=1:10000");
   audit->add_option("--densify-tolerance", args.densify_tolerance_m,
                     "largest planar deviation of a densified edge from the true edge, metres")

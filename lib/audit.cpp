@@ -587,6 +587,7 @@ struct Auditor::Impl {
   Pj op_c_to_s;  // straight edges: the edge CRS's plane → source lon, lat
   Pj op_c_to_p;  // straight edges: the edge CRS's plane → target's geographic lon, lat; null when identity
   bool edge_crs_is_target = false;  // straight edges in the target's own plane: D = G
+  bool source_is_target = false;    // a projected source audited in its own CRS: G uses the given coordinates
   GeographicLib::Geodesic geod_s{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   GeographicLib::Geodesic geod_p{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   std::optional<GeographicLib::Rhumb> rhumb_s, rhumb_p;
@@ -671,6 +672,7 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
   if (!src_geog) throw Error(ErrorCode::unsupported_crs, "source CRS '" + o.source_crs + "' has no geodetic CRS");
   if (source.kind == CrsKind::projected) {
     op_source = normalized_operation(c, src_h.get(), src_geog.get(), "the inverse projection of the source CRS");
+    source_is_target = proj_is_equivalent_to_with_ctx(c, src_h.get(), tgt.get(), PJ_COMP_EQUIVALENT) != 0;
   }
   Pj geog_p(proj_crs_get_geodetic_crs(c, tgt_h.get()));
   if (!geog_p) throw Error(ErrorCode::unsupported_crs, "target CRS '" + o.target_crs + "' has no geodetic CRS");
@@ -755,6 +757,7 @@ std::unique_ptr<Auditor::Impl> Auditor::Impl::clone() const {
   copy->op_c_to_s = clone_into(c, op_c_to_s);
   copy->op_c_to_p = clone_into(c, op_c_to_p);
   copy->edge_crs_is_target = edge_crs_is_target;
+  copy->source_is_target = source_is_target;
   copy->geod_s = geod_s;
   copy->geod_p = geod_p;
   copy->rhumb_s = rhumb_s;
@@ -1035,6 +1038,21 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   // 2. Datum transformation and projection of the vertices (a failure is reported after the truth).
   std::vector<Coord> points_p, points_xy;
   std::string transform_failure = transform_vertices(paths, points_p, points_xy, points_s);
+  if (source_is_target && transform_failure.empty()) {
+    // The grid measure is what a GIS computes from the coordinates as given, not from their round trip through
+    // longitude and latitude (which moves them by nanometres).
+    std::size_t k = 0;
+    auto given = [&](const Path& raw, bool ring) {
+      std::vector<Coord> cleaned = clean_path(raw, ring);
+      if (k < paths.size() && cleaned.size() == paths[k].xy.size()) paths[k].xy = std::move(cleaned);
+      ++k;
+    };
+    for (const Path& line : input.lines) given(line, false);
+    for (const Polygon& polygon : input.polygons) {
+      given(polygon.outer, true);
+      for (const Path& hole : polygon.holes) given(hole, true);
+    }
+  }
   if (straight) {
     for (std::size_t i = 0; i < paths.size() && transform_failure.empty(); ++i) {
       paths[i].c_xy = paths[i].lonlat_s;

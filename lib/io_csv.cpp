@@ -5,6 +5,8 @@
 // quote left open at the end of the input or an unparseable WKT value gives an invalid feature; the header
 // itself must name the geometry column.
 #include <cctype>
+#include <cmath>
+#include <cstdlib>
 #include <string>
 #include <vector>
 
@@ -120,6 +122,17 @@ class CsvReader final : public FormatReader {
       f.error = "line " + std::to_string(r.line) + ": " + error;
       return f;
     }
+    if (height_column_) {
+      const std::string cell = trim(r.fields[*height_column_]);
+      char* end = nullptr;
+      const double h = cell.empty() ? NAN : std::strtod(cell.c_str(), &end);
+      if (cell.empty() || end != cell.c_str() + cell.size() || !std::isfinite(h)) {
+        f.error = "line " + std::to_string(r.line) + ": height column \"" + options_.height_field + "\" holds \"" +
+                  cell + "\", not a finite number of metres";
+        return f;
+      }
+      f.height_m = h;
+    }
     f.geometry = std::move(g);
     return f;
   }
@@ -135,12 +148,14 @@ class CsvReader final : public FormatReader {
     columns_ = h.fields.size();
     const std::string want = lower(trim(options_.wkt_field));
     const std::string want_id = lower(trim(options_.id_field));
+    const std::string want_height = lower(trim(options_.height_field));
     std::optional<std::size_t> wkt;
     std::string names;
     for (std::size_t k = 0; k < h.fields.size(); ++k) {
       const std::string name = lower(trim(h.fields[k]));
       if (!wkt && name == want) wkt = k;
       if (!id_column_ && !want_id.empty() && name == want_id) id_column_ = k;
+      if (!height_column_ && !want_height.empty() && name == want_height) height_column_ = k;
       if (k) names += ", ";
       names += h.fields[k];
     }
@@ -150,6 +165,9 @@ class CsvReader final : public FormatReader {
     if (!want_id.empty() && !id_column_)
       throw Error(ErrorCode::invalid_argument, "CSV header (line 1) has no id column \"" + options_.id_field +
                                                    "\" (columns: " + names + ")");
+    if (!want_height.empty() && !height_column_)
+      throw Error(ErrorCode::invalid_argument, "CSV header (line 1) has no height column \"" +
+                                                   options_.height_field + "\" (columns: " + names + ")");
     wkt_column_ = *wkt;
   }
 
@@ -159,6 +177,7 @@ class CsvReader final : public FormatReader {
   std::size_t columns_ = 0;
   std::size_t wkt_column_ = 0;
   std::optional<std::size_t> id_column_;
+  std::optional<std::size_t> height_column_;
 };
 
 }  // namespace

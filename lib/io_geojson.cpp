@@ -159,9 +159,24 @@ void feature_from_json(const json& j, const ReaderOptions& options, InputFeature
       if (g == j.end()) problem("Feature has no \"geometry\" member (RFC 7946 section 3.2)");
       if (g->is_null()) problem("Feature has a null geometry (an unlocated feature, RFC 7946 section 3.2)");
       f.geometry = geometry(*g, f.declared_type);
+      if (!options.height_field.empty()) {
+        const auto props = j.find("properties");
+        const json* v = nullptr;
+        if (props != j.end() && props->is_object()) {
+          if (const auto found = props->find(options.height_field); found != props->end()) v = &*found;
+        }
+        if (!v || v->is_null()) problem("height property \"" + options.height_field + "\" is missing or null");
+        if (!v->is_number()) {
+          problem("height property \"" + options.height_field + "\" is " + json_type_name(*v) + ", not a number");
+        }
+        f.height_m = v->get<double>();
+      }
     } else if (name == "FeatureCollection") {
       problem("a FeatureCollection where a Feature belongs");
     } else {
+      if (!options.height_field.empty()) {
+        problem("a bare geometry has no properties, so no height property \"" + options.height_field + "\"");
+      }
       f.geometry = geometry(j, f.declared_type);
     }
   } catch (const FeatureProblem& p) {

@@ -28,6 +28,7 @@ void ResultCsvWriter::write_header() {
     if (k) *out_ << ',';
     *out_ << names[k];
   }
+  if (combined_factor_) *out_ << ",combined_factor";
   *out_ << line_ending_;
 }
 
@@ -78,6 +79,10 @@ void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
   if (r.bearing_error_max_arcsec) line += format_number(*r.bearing_error_max_arcsec);
   line += ',';
   line += to_string(r.verdict);
+  if (combined_factor_) {
+    line += ',';
+    if (r.combined_factor) line += format_number(*r.combined_factor);
+  }
   line += line_ending_;
   *out_ << line;
 }
@@ -91,7 +96,7 @@ void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view mes
   line += csv_field(message);
   line += ',';  // vertices: unknown
   // 8 length + 8 area + 7 distortion + bearing + verdict columns, all empty.
-  line.append(8 + 8 + 7 + 1 + 1, ',');
+  line.append(8 + 8 + 7 + 1 + 1 + (combined_factor_ ? 1 : 0), ',');
   line += line_ending_;
   *out_ << line;
 }

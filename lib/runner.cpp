@@ -83,7 +83,9 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                   std::unique_ptr<Auditor>& mine = local.local();
                   batch->results.reserve(batch->features.size());
                   for (const InputFeature& f : batch->features) {
-                    batch->results.push_back(f.geometry ? mine->audit(*f.geometry) : unread_result(f));
+                    batch->results.push_back(!f.geometry  ? unread_result(f)
+                                            : f.height_m ? mine->audit(*f.geometry, *f.height_m)
+                                                         : mine->audit(*f.geometry));
                   }
                   return batch;
                 }) &

@@ -776,3 +776,77 @@ TEST_F(CliTest, HostileCsvRows) {
 }
 
 }  // namespace
+
+// ---- Issue 5 on the command line: edge models, projected input, per-feature heights, the combined factor ----
+
+TEST_F(CliTest, EdgesOptionChangesTheTruthAndIsReported) {
+  // A 1°×1° quadrangle at the equator: joined by rhumb lines (meridians and parallels) its area has the closed
+  // form (a²/2)·Δλ·[q(φ2) − q(φ1)] = 12 308 463 893.975 m² on WGS 84 (Snyder 1987, USGS PP 1395, eq. 3-12);
+  // joined by geodesics it encloses about 26 ppm more (the geodesic along a parallel bulges poleward).
+  const std::string quad = R"({"type":"Polygon","coordinates":[[[0,0],[1,0],[1,1],[0,1],[0,0]]]})";
+  const std::string one = collection({feature("Q", quad)});
+  const CliRun rhumb = audit_text("q.geojson", one, {"--crs", "EPSG:6933", "--edges", "rhumb",
+                                                     "--summary", path("q.json")});
+  const CliRun geodesic = audit_text("q.geojson", one, {"--crs", "EPSG:6933"});
+  EXPECT_EQ(rhumb.status, 0) << rhumb.err;
+  EXPECT_NEAR(rhumb.number(0, "true_area_m2"), 12308463893.975, 0.01);
+  const double ppm = 1e6 * (geodesic.number(0, "true_area_m2") / rhumb.number(0, "true_area_m2") - 1);
+  EXPECT_NEAR(ppm, 26, 1.5);
+  // EPSG:6933 is cylindrical equal-area: meridians and parallels are straight, so rhumb edges have no edge part.
+  EXPECT_NEAR(rhumb.number(0, "area_from_edges_m2"), 0, 1e-3);
+  EXPECT_THAT(rhumb.err, HasSubstr("edges:        rhumb"));
+  EXPECT_THAT(geodesic.err, HasSubstr("edges:        geodesic"));
+  EXPECT_EQ(nlohmann::json::parse(slurp(path("q.json")))["edges"], "rhumb");
+  expect_unusable(audit_text("q.geojson", one, {"--crs", "EPSG:6933", "--edges", "loxodrome-ish"}),
+                  "unknown edge model");
+  expect_unusable(audit_text("q.geojson", one, {"--crs", "EPSG:6933", "--edges", "straight-in=EPSG:4326"}),
+                  "not one");
+}
+
+TEST_F(CliTest, ProjectedSourceHasStraightEdgesInItsOwnPlane) {
+  // A 1 km square digitised in UTM 15N (metres) and audited in the same CRS: the grid area is the plane's own
+  // shoelace, 1 000 000 m², and the edges are the chords themselves (from_edges = 0). Common practice.
+  const std::string csv = "name,wkt\nsq,\"POLYGON((500000 4900000,501000 4900000,501000 4901000,"
+                          "500000 4901000,500000 4900000))\"\n";
+  const CliRun r = audit_text("p.csv", csv, {"--source-crs", "EPSG:32615", "--crs", "EPSG:32615",
+                                             "--id-field", "name"});
+  EXPECT_EQ(r.status, 0) << r.err;
+  EXPECT_NEAR(r.number(0, "grid_area_m2"), 1e6, 1e-6);
+  EXPECT_EQ(r.number(0, "area_from_edges_m2"), 0);
+  // On the central meridian UTM's scale is 0.9996: the grid is ≈ −800 ppm in area (common practice).
+  EXPECT_NEAR(r.number(0, "area_error_ppm"), -800, 1.5);
+  EXPECT_THAT(r.err, HasSubstr("edges:        straight-in=EPSG:32615"));
+}
+
+TEST_F(CliTest, HeightFieldGivesEachFeatureItsOwnHeightAndTheCombinedFactor) {
+  // Two copies of a short north-south line on UTM 15N's central meridian (scale 0.9996), at 0 m and 1000 m.
+  // Combined factor = k × R_G/(R_G + h) (common practice); R_G = √(M N) on WGS 84 at 45°N, computed here.
+  const std::string line = R"({"type":"LineString","coordinates":[[-93,45],[-93,45.01]]})";
+  auto with_h = [&](const std::string& id, const std::string& h) {
+    return R"({"type":"Feature","id":")" + id + R"(","properties":{"h":)" + h + R"(},"geometry":)" + line + "}";
+  };
+  const std::string text = collection({with_h("low", "0"), with_h("high", "1000"), with_h("bad", "\"tall\""),
+                                       R"({"type":"Feature","id":"none","properties":{},"geometry":)" + line + "}"});
+  const CliRun r = audit_text("h.geojson", text, {"--crs", "EPSG:32615", "--height-field", "h"});
+  EXPECT_EQ(r.status, 1) << r.err;  // two features lack a usable height: invalid
+  ASSERT_EQ(r.data_rows(), 4U);
+  ASSERT_EQ(r.rows[0].back(), "combined_factor");
+  const double a = 6378137, f = 1 / 298.257223563, e2 = f * (2 - f), s = std::sin(45.005 * M_PI / 180);
+  const double w2 = 1 - e2 * s * s, m = a * (1 - e2) / (w2 * std::sqrt(w2)), n = a / std::sqrt(w2);
+  const double radius = std::sqrt(m * n);
+  const double low = std::stod(r.rows[r.row_of("low") + 1].back());
+  const double high = std::stod(r.rows[r.row_of("high") + 1].back());
+  EXPECT_NEAR(low, 0.9996, 2e-9);  // k on the central meridian; the line hugs it
+  EXPECT_NEAR(high, 0.9996 * radius / (radius + 1000), 2e-9);
+  EXPECT_NEAR(1e6 * (1 - high / low), 157, 1);  // the elevation factor at 1000 m: about 157 ppm
+  EXPECT_EQ(r.cell(r.row_of("bad"), "status"), "invalid");
+  EXPECT_THAT(r.cell(r.row_of("bad"), "message"), HasSubstr("not a number"));
+  EXPECT_EQ(r.cell(r.row_of("none"), "status"), "invalid");
+  EXPECT_THAT(r.cell(r.row_of("none"), "message"), HasSubstr("missing"));
+  // Without heights there is no combined_factor column (the issue-3 contract holds as it was).
+  const CliRun plain = audit_text("p.geojson", collection({feature("x", line)}), {"--crs", "EPSG:32615"});
+  EXPECT_EQ(plain.rows[0].size(), contract_columns.size());
+  expect_unusable(audit_text("p.geojson", collection({feature("x", line)}),
+                             {"--crs", "EPSG:32615", "--height", "5", "--height-field", "h"}),
+                  "excludes");
+}

@@ -42,6 +42,9 @@ struct ReaderOptions {
   InputFormat format = InputFormat::automatic;
   std::string id_field;         ///< GeoJSON property or CSV column used as id when a feature has no GeoJSON id
   std::string wkt_field = "wkt";  ///< CSV column that holds the WKT geometry (matched case-insensitively)
+  /// GeoJSON property or CSV column holding each feature's ellipsoidal height in metres; empty: none. A feature
+  /// whose height is missing, null, not a number or not finite is read with `error` set (it becomes invalid).
+  std::string height_field;
 };
 
 /// One feature as read.
@@ -54,6 +57,7 @@ struct InputFeature {
   std::string error;                   ///< why the feature could not be read; empty when `geometry` is set
   // A geometry without any coordinate (WKT EMPTY, GeoJSON "coordinates": []) comes back as an error
   // ("empty geometry: ...") with `declared_type` set: there is nothing to measure.
+  std::optional<double> height_m;      ///< the height_field value, metres (absent without a height_field)
 };
 
 /// Pulls features one at a time from a stream or a file.
@@ -106,6 +110,8 @@ class ResultCsvWriter {
   explicit ResultCsvWriter(std::ostream& out, std::string line_ending = "\r\n");
   /// The column names, in order.
   static const std::vector<std::string>& columns();
+  /// Adds a last column `combined_factor` (AuditResult::combined_factor), for audits with heights.
+  void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   void write_header();
   /// One audited feature.
   void write_row(std::string_view id, const AuditResult& result);
@@ -116,6 +122,7 @@ class ResultCsvWriter {
  private:
   std::ostream* out_;
   std::string line_ending_;
+  bool combined_factor_ = false;
 };
 
 }  // namespace gridtruth

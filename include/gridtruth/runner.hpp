@@ -18,7 +18,8 @@ struct RunOptions {
 /// Receives each feature and its result, in input order, on one thread at a time.
 using ResultSink = std::function<void(const InputFeature& feature, const AuditResult& result)>;
 
-/// Reads every feature of `reader`, audits it with a clone of `auditor` per worker thread, and hands the
+/// Reads every feature of `reader`, audits it with a clone of `auditor` per worker thread (at the feature's own
+/// height when the reader gives one, InputFeature::height_m), and hands the
 /// (feature, result) pairs to `sink` in input order. A feature the reader could not understand gets an
 /// `invalid` result carrying the reader's message; so every feature read yields exactly one call of `sink`.
 ///
