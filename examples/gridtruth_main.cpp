@@ -18,6 +18,7 @@
 #include <string>
 
 #include "audit_summary.hpp"
+#include "commands.hpp"
 #include "gridtruth/audit.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
@@ -281,7 +282,7 @@ int main(int argc, char** argv) {
   app.name("gridtruth");
   app.set_version_flag("--version", std::string("gridtruth ") + GRIDTRUTH_VERSION);
   app.require_subcommand(1);
-  app.footer(std::string("\nRun 'gridtruth audit --help' for the audit command.\n\n") + cli::caution_text + "\n");
+  app.footer(std::string("\nRun 'gridtruth COMMAND --help' for a command's options.\n\n") + cli::caution_text + "\n");
 
   AuditArgs args;
   CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
@@ -319,8 +320,18 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
 
-  if (argc > 1 && argv[1][0] != '-' && std::string(argv[1]) != "audit")
-    return fail_run("unknown command \"" + std::string(argv[1]) + "\" (the command is audit; see 'gridtruth --help')");
+  // The other commands register themselves (examples/commands.hpp).
+  std::vector<cli::Command> commands;
+  std::string command_names = "audit";
+  bool known = argc > 1 && std::string(argv[1]) == "audit";
+  for (const cli::CommandSpec& spec : cli::command_registry()) {
+    commands.push_back(spec.setup(app));
+    command_names += ", " + spec.name;
+    known = known || (argc > 1 && spec.name == argv[1]);
+  }
+  if (argc > 1 && argv[1][0] != '-' && !known)
+    return fail_run("unknown command \"" + std::string(argv[1]) + "\" (the commands are " + command_names +
+                    "; see 'gridtruth --help')");
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -333,6 +344,14 @@ int main(int argc, char** argv) {
     for (auto& c : what)
       if (c == '\n') c = ' ';
     return fail_run(what + " (see 'gridtruth " + (app.got_subcommand(audit) ? "audit " : "") + "--help')");
+  }
+  for (const cli::Command& command : commands) {
+    if (!app.got_subcommand(command.app)) continue;
+    try {
+      return command.run();
+    } catch (const std::exception& e) {
+      return fail_run(e.what());
+    }
   }
   if (app.got_subcommand(audit)) {
     try {
