@@ -1,0 +1,306 @@
+// Raster cells (issue 9): true cell areas of geographic and projected grids, class areas, and `gridtruth cells`.
+#include <GeographicLib/Geodesic.hpp>
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <map>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/cells.hpp"
+#include "gridtruth/error.hpp"
+#include "support.hpp"
+
+namespace {
+
+using namespace gridtruth;
+namespace t = gridtruth::test;
+
+const Ellipsoid wgs84_el{"WGS 84", t::wgs84.a_m, t::wgs84.f};
+
+GridSpec grid(const std::string& crs, double ox, double oy, double px, double py, std::size_t cols,
+              std::size_t rows) {
+  GridSpec g;
+  g.crs = crs;
+  g.origin_x = ox;
+  g.origin_y = oy;
+  g.pixel_x = px;
+  g.pixel_y = py;
+  g.cols = cols;
+  g.rows = rows;
+  return g;
+}
+
+/// A one-cell rhumb quadrangle (meridians and parallels are rhumb lines) measured by GeographicLib directly.
+double rhumb_cell_m2(double lat1, double lat2, double lon1, double lon2) {
+  const Path ring{{lon1, lat1}, {lon2, lat1}, {lon2, lat2}, {lon1, lat2}};
+  return t::rhumb_ring(ring, t::wgs84).area_m2;
+}
+
+// ---- geographic grid ------------------------------------------------------------------------------------------------
+
+// 1° cells of WGS 84: 0–1°N × 1° = 12 308 463 893.975 m² and 89–90°N × 1° = 108 866 681.636 m², closed form of
+// Snyder 1987 (USGS PP 1395) eq. 3-12 (values as stated in issue 9); cross-checked against the plain evaluation of
+// eq. 3-12 in support.hpp and against GeographicLib's PolygonAreaRhumb (Karney 2024) on the same quadrangle.
+TEST(GeographicCells, OneDegreeCellsMatchTheClosedForm) {
+  const CellGrid g(grid("EPSG:4326", 0, 90, 1, -1, 1, 180));
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(89), 12308463893.975, 0.002);  // row 89: 1°N → 0°
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(0), 108866681.636, 0.002);     // row 0: 90°N → 89°N
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(89), t::quadrangle_area_m2(t::wgs84, 0, 1, 1), 1e-3);
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(0), t::quadrangle_area_m2(t::wgs84, 89, 90, 1), 1e-3);
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(89) / rhumb_cell_m2(0, 1, 0, 1), 1, 1e-12);
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(0) / rhumb_cell_m2(89, 90, 0, 1), 1, 1e-12);
+  // Symmetry about the equator: row 90 (0° → 1°S) equals row 89.
+  EXPECT_NEAR(g.geographic_row_cell_area_m2(90), g.geographic_row_cell_area_m2(89), 1e-4);
+  EXPECT_NEAR(quadrangle_area_m2(wgs84_el, 0, 1, 1), 12308463893.975, 0.002);
+}
+
+// 30″ cells at several latitudes against GeographicLib's PolygonAreaRhumb on the single cell (a cell bounded by
+// meridians and parallels is a rhumb quadrangle; Karney 2024): relative 1e-9. PolygonAreaRhumb's error is absolute
+// (it was measured at 2.5e-7 m² on the 63 m² polar cells, i.e. 4e-9 relative), so the rows next to the poles are
+// checked instead against eq. 3-12 evaluated with 50 significant digits (mpmath 1.3, independent of this library):
+// rows 0 and 21599 = 63.003280391575911666 m², row 1 = 189.0098397341706981 m², row 600 = 75563.027104047828493 m²,
+// row 10799 = 854796.66924022836136 m².
+TEST(GeographicCells, ThirtySecondCellsMatchRhumbPolygonsAndHighPrecision) {
+  const double step = 1.0 / 120;
+  const CellGrid g(grid("EPSG:4326", -180, 90, step, -step, 43200, 21600));
+  for (const std::size_t row : {std::size_t{600}, std::size_t{5000}, std::size_t{10799}, std::size_t{10800},
+                                std::size_t{15000}, std::size_t{21000}}) {
+    const double lat_top = 90 - static_cast<double>(row) * step;
+    const double lat_bottom = 90 - static_cast<double>(row + 1) * step;
+    const double expected = rhumb_cell_m2(lat_bottom, lat_top, 10, 10 + step);
+    EXPECT_NEAR(g.geographic_row_cell_area_m2(row) / expected, 1, 1e-9) << "row " << row;
+  }
+  const std::map<std::size_t, double> high_precision = {{0, 63.003280391575911666},
+                                                        {1, 189.0098397341706981},
+                                                        {600, 75563.027104047828493},
+                                                        {10799, 854796.66924022836136},
+                                                        {21599, 63.003280391575911666}};
+  for (const auto& [row, area_m2] : high_precision)
+    EXPECT_NEAR(g.geographic_row_cell_area_m2(row) / area_m2, 1, 1e-11) << "row " << row;
+}
+
+// The whole globe sums to the ellipsoid's area 2πa²q_p (Snyder 1987 eq. 3-12 at φ = 90°), compared with
+// GeographicLib's Geodesic::EllipsoidArea (Karney 2013), for 1° and 30″ grids.
+TEST(GeographicCells, WholeGlobeSumsToTheEllipsoidArea) {
+  const double ellipsoid_m2 = GeographicLib::Geodesic(t::wgs84.a_m, t::wgs84.f).EllipsoidArea();
+  const double step = 1.0 / 120;
+  for (const auto& spec : {grid("EPSG:4326", -180, 90, 1, -1, 360, 180),
+                           grid("EPSG:4326", -180, 90, step, -step, 43200, 21600),
+                           grid("EPSG:4326", 180, -90, -0.25, 0.25, 1440, 720)}) {
+    const CellGrid g(spec);
+    long double total = 0;
+    std::size_t records = 0;
+    g.for_each_record(1, [&](const CellRecord& r) {
+      total += r.true_area_m2;
+      ++records;
+      EXPECT_EQ(r.row_end, r.row_start + 1);
+      EXPECT_EQ(r.cells, spec.cols);
+    });
+    EXPECT_EQ(records, spec.rows);
+    EXPECT_NEAR(static_cast<double>(total) / ellipsoid_m2, 1, 1e-12) << spec.pixel_x;
+  }
+  const double qp = authalic_q(wgs84_el, 90);
+  EXPECT_NEAR(2 * t::pi * t::wgs84.a_m * t::wgs84.a_m * qp / ellipsoid_m2, 1, 1e-14);
+}
+
+// The difference formula against the plain q for latitudes far apart (where the plain form does not cancel): the
+// plain difference of two q values up to 2 in size carries a few units in the last place of q (ulp(2) = 4.4e-16).
+TEST(GeographicCells, DifferenceFormulaAgreesWithPlainQ) {
+  for (double lat1 = -90; lat1 <= 90; lat1 += 7.5)
+    for (double lat2 = -90; lat2 <= 90; lat2 += 11.25)
+      EXPECT_NEAR(authalic_q_difference(wgs84_el, lat1, lat2),
+                  t::authalic_q(t::wgs84, lat2) - t::authalic_q(t::wgs84, lat1), 2e-15)
+          << lat1 << " " << lat2;
+}
+
+// The nominal area of a geographic cell is the equatorial-degree convention a²·Δλ·Δφ (documented in cells.hpp):
+// a 1° cell of WGS 84 is (2πa/360)² = 12 391 557 235.9 m² (111 319.49 m squared, common practice).
+TEST(GeographicCells, NominalAreaIsTheEquatorialDegreeSquare) {
+  const CellGrid g(grid("EPSG:4326", 0, 1, 1, -1, 1, 1));
+  const double degree_m = 2 * t::pi * t::wgs84.a_m / 360;
+  EXPECT_NEAR(g.nominal_cell_area_m2(), degree_m * degree_m, 1e-3);
+  EXPECT_NEAR(degree_m, 111319.49, 0.01);
+}
+
+TEST(GeographicCells, BadGridsThrowAtSetUp) {
+  EXPECT_THROW(CellGrid(grid("EPSG:4326", 0, 91, 1, -1, 1, 1)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:4326", 0, 90, 1, -1, 1, 181)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:4326", 0, 90, 1, -1, 361, 1)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:4326", 0, 90, 0, -1, 1, 1)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:4326", 0, 90, 1, -1, 0, 1)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:999999", 0, 0, 1, -1, 1, 1)), Error);
+  EXPECT_THROW(CellGrid(grid("EPSG:4978", 0, 0, 1, -1, 1, 1)), Error);  // geocentric
+  const CellGrid g(grid("EPSG:4326", 0, 90, 1, -1, 2, 2));
+  EXPECT_THROW(g.geographic_row_cell_area_m2(2), Error);
+  EXPECT_THROW(g.row_cell_areas_m2(0, 1, 3), Error);
+}
+
+// ---- projected grid -------------------------------------------------------------------------------------------------
+
+// Equal-area CRSs: every cell's true area equals its nominal (grid) area (the equal-area guarantee, common
+// practice), EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global, cylindrical equal-area) and EPSG:3035 (ETRS89-extended
+// / LAEA Europe), for 1 km and 100 km cells.
+TEST(ProjectedCells, EqualAreaCrsCellsKeepTheirNominalArea) {
+  const std::vector<GridSpec> specs = {
+      grid("EPSG:6933", -17000000, 7000000, 1000, -1000, 40, 30),
+      grid("EPSG:6933", -17000000, 7000000, 100000, -100000, 20, 140),
+      grid("EPSG:3035", 2500000, 5500000, 1000, -1000, 30, 20),
+      grid("EPSG:3035", 2500000, 5500000, 100000, -100000, 40, 40),
+  };
+  for (const GridSpec& s : specs) {
+    const CellGrid g(s);
+    ASSERT_FALSE(g.is_geographic());
+    EXPECT_NEAR(g.nominal_cell_area_m2(), std::fabs(s.pixel_x * s.pixel_y), 1e-6);
+    double worst = 0;
+    for (std::size_t row = 0; row < s.rows; row += std::max<std::size_t>(1, s.rows / 7)) {
+      const auto areas = g.row_cell_areas_m2(row, 0, s.cols);
+      for (const double a : areas) worst = std::max(worst, std::fabs(a / g.nominal_cell_area_m2() - 1));
+    }
+    EXPECT_LT(worst, 1e-9) << s.crs << " pixel " << s.pixel_x;
+    g.for_each_record(16, [&](const CellRecord& r) { EXPECT_NEAR(r.ratio, 1, 1e-9) << s.crs << " pixel " << s.pixel_x << " block " << r.row_start << "," << r.col_start; });
+  }
+}
+
+// UTM: on the central meridian the point scale is k0 = 0.9996 in every direction (Snyder 1987 p. 58, transverse
+// Mercator with k0), so a small cell there covers 1/0.9996² of its grid area on the ellipsoid (common practice).
+TEST(ProjectedCells, UtmCellOnTheCentralMeridian) {
+  const CellGrid g(grid("EPSG:32632", 499995, 5, 10, -10, 1, 1));  // 10 m cell on the equator at 9°E
+  const double a = g.row_cell_areas_m2(0, 0, 1).at(0);
+  EXPECT_NEAR(a / 100.0, 1 / (0.9996 * 0.9996), 1e-9);
+  const CellGrid g2(grid("EPSG:32632", 499500, 5000500, 1000, -1000, 1, 1));  // 1 km cell at ~45°N
+  EXPECT_NEAR(g2.row_cell_areas_m2(0, 0, 1).at(0) / 1e6, 1 / (0.9996 * 0.9996), 1e-8);
+}
+
+// Projected cells against the library's own audit of the same block as a polygon with edges straight in the grid's
+// plane (densified geodesic reference, an independent route): relative 1e-9 for 50 km cells in UTM far from the
+// central meridian and in a Lambert conformal conic.
+TEST(ProjectedCells, BlocksAgreeWithStraightEdgedPolygonAudit) {
+  const std::vector<GridSpec> specs = {grid("EPSG:32632", 180000, 5400000, 50000, -50000, 6, 6),
+                                       grid("EPSG:2154", 200000, 7000000, 50000, -50000, 6, 6)};
+  for (const GridSpec& s : specs) {
+    const CellGrid g(s);
+    AuditOptions o;
+    o.source_crs = s.crs;
+    o.target_crs = s.crs;
+    o.densify_tolerance_m = 1e-4;
+    o.edges = EdgeSpec{EdgeModel::straight, s.crs};
+    const Auditor auditor(o);
+    std::size_t checked = 0;
+    g.for_each_record(3, [&](const CellRecord& r) {
+      const double x0 = s.origin_x + static_cast<double>(r.col_start) * s.pixel_x;
+      const double x1 = s.origin_x + static_cast<double>(r.col_end) * s.pixel_x;
+      const double y0 = s.origin_y + static_cast<double>(r.row_start) * s.pixel_y;
+      const double y1 = s.origin_y + static_cast<double>(r.row_end) * s.pixel_y;
+      const AuditResult res = auditor.audit(Geometry::polygon({{x0, y0}, {x1, y0}, {x1, y1}, {x0, y1}, {x0, y0}}));
+      ASSERT_EQ(res.status, Status::ok) << res.message;
+      ASSERT_TRUE(res.area);
+      EXPECT_NEAR(r.true_area_m2 / res.area->reference, 1, 1e-9) << s.crs << " block " << r.row_start << ","
+                                                                  << r.col_start;
+      ++checked;
+    });
+    EXPECT_EQ(checked, 4u);
+  }
+}
+
+// Per-block records tile the grid and their sum equals the sum of the cells row by row.
+TEST(ProjectedCells, BlocksTileTheGrid) {
+  const GridSpec s = grid("EPSG:32633", 300000, 6000000, 2000, -2000, 23, 17);
+  const CellGrid g(s);
+  double cell_sum = 0;
+  for (std::size_t r = 0; r < s.rows; ++r)
+    for (const double a : g.row_cell_areas_m2(r, 0, s.cols)) cell_sum += a;
+  double block_sum = 0;
+  std::uint64_t cells = 0;
+  std::size_t records = 0;
+  g.for_each_record(5, [&](const CellRecord& r) {
+    block_sum += r.true_area_m2;
+    cells += r.cells;
+    ++records;
+    EXPECT_EQ(r.cells, (r.row_end - r.row_start) * (r.col_end - r.col_start));
+    EXPECT_NEAR(r.nominal_area_m2, 4e6 * static_cast<double>(r.cells), 1e-3);
+  });
+  EXPECT_EQ(cells, 23u * 17u);
+  EXPECT_EQ(records, 5u * 4u);
+  EXPECT_NEAR(block_sum / cell_sum, 1, 1e-13);
+}
+
+// ---- class areas ----------------------------------------------------------------------------------------------------
+
+// A 3 × 4 geographic raster of 1° cells from 2°N to 1°S (rows 2–1°N, 1–0°N, 0–1°S) with codes
+//   row 0: 1 1 2 7     row 1: 2 2 2 7     row 2: 1 9 9 9   (9 = nodata)
+// hand-computed: class 1 = 2·A(1..2) + 1·A(0..1°S); class 2 = 1·A(1..2) + 3·A(0..1); class 7 = A(1..2) + A(0..1);
+// A from the plain closed form (Snyder 1987 eq. 3-12, support.hpp).
+TEST(ClassAreas, GeographicRasterAgainstHandSums) {
+  const CellGrid g(grid("EPSG:4326", 10, 2, 1, -1, 4, 3));
+  ClassAreaAccumulator acc(g, 9u);
+  acc.add_strip(0, {1, 1, 2, 7, 2, 2, 2, 7});
+  acc.add_strip(2, {1, 9, 9, 9});
+  const double a12 = t::quadrangle_area_m2(t::wgs84, 1, 2, 1);
+  const double a01 = t::quadrangle_area_m2(t::wgs84, 0, 1, 1);
+  const double a10s = t::quadrangle_area_m2(t::wgs84, -1, 0, 1);
+  const std::map<std::uint32_t, std::pair<std::uint64_t, double>> expected = {
+      {1, {3, 2 * a12 + a10s}}, {2, {4, a12 + 3 * a01}}, {7, {2, a12 + a01}}};
+  const auto got = acc.result();
+  ASSERT_EQ(got.size(), expected.size());
+  const double nominal = std::pow(t::wgs84.a_m * t::pi / 180, 2);
+  for (const ClassArea& c : got) {
+    const auto& e = expected.at(c.code);
+    EXPECT_EQ(c.cells, e.first) << c.code;
+    EXPECT_NEAR(c.true_area_m2, e.second, 1e-2) << c.code;
+    EXPECT_NEAR(c.naive_area_m2, nominal * static_cast<double>(e.first), 1e-2);
+    EXPECT_NEAR(c.difference_m2, c.naive_area_m2 - e.second, 1e-2);
+    EXPECT_NEAR(c.difference_pct, 100 * (c.naive_area_m2 - e.second) / e.second, 1e-9);
+  }
+  // The same raster as counts per (row, class) gives the same areas.
+  ClassAreaAccumulator counts(g, 9u);
+  counts.add_row_count(0, 1, 2);
+  counts.add_row_count(0, 2, 1);
+  counts.add_row_count(0, 7, 1);
+  counts.add_row_count(1, 2, 3);
+  counts.add_row_count(1, 7, 1);
+  counts.add_row_count(2, 1, 1);
+  counts.add_row_count(2, 9, 3);
+  const auto again = counts.result();
+  ASSERT_EQ(again.size(), got.size());
+  for (std::size_t k = 0; k < got.size(); ++k) EXPECT_NEAR(again[k].true_area_m2, got[k].true_area_m2, 1e-3);
+  EXPECT_THROW(acc.add_strip(2, {1, 1, 1, 1, 1, 1, 1, 1}), Error);  // past the last row
+  EXPECT_THROW(acc.add_strip(0, {1, 1, 1}), Error);                 // not whole rows
+}
+
+// Projected: in an equal-area CRS the class areas are count × cell area exactly (equal-area guarantee, common
+// practice); in UTM they are the sums of the cells' own areas, hand-summed from row_cell_areas_m2.
+TEST(ClassAreas, ProjectedRasters) {
+  const CellGrid ea(grid("EPSG:6933", 1000000, 5000000, 500, -500, 3, 2));
+  ClassAreaAccumulator acc(ea);
+  acc.add_strip(0, {4, 4, 5, 5, 4, 4});
+  const auto got = acc.result();
+  ASSERT_EQ(got.size(), 2u);
+  EXPECT_EQ(got[0].code, 4u);
+  EXPECT_EQ(got[0].cells, 4u);
+  EXPECT_NEAR(got[0].true_area_m2 / (4 * 250000.0), 1, 1e-9);
+  EXPECT_NEAR(got[1].true_area_m2 / (2 * 250000.0), 1, 1e-9);
+
+  const CellGrid utm(grid("EPSG:32632", 700000, 5200000, 1000, -1000, 2, 2));
+  ClassAreaAccumulator u(utm);
+  u.add_strip(0, {3, 8});
+  u.add_strip(1, {8, 8});
+  const auto r0 = utm.row_cell_areas_m2(0, 0, 2), r1 = utm.row_cell_areas_m2(1, 0, 2);
+  const auto ur = u.result();
+  ASSERT_EQ(ur.size(), 2u);
+  EXPECT_NEAR(ur[0].true_area_m2, r0[0], 1e-6);
+  EXPECT_NEAR(ur[1].true_area_m2, r0[1] + r1[0] + r1[1], 1e-6);
+  // 200 km east of the central meridian the grid overstates (k > 1): the naive count overstates the true area.
+  EXPECT_GT(ur[1].difference_m2, 0);
+  EXPECT_THROW(u.add_row_count(0, 3, 1), Error);
+}
+
+}  // namespace
