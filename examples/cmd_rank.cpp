@@ -10,37 +10,12 @@
 
 #include "audit_summary.hpp"
 #include "commands.hpp"
+#include "rank_input.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "gridtruth/rank.hpp"
 
 namespace gridtruth::cli {
-
-/// Reads every feature of an input (geometry and height); unreadable features are counted and left out.
-struct LoadedFeatures {
-  std::vector<Geometry> geometries;
-  std::vector<double> heights_m;  ///< empty without a height field
-  std::size_t unreadable = 0;
-};
-
-LoadedFeatures load_features(const std::string& input, const std::string& format, const std::string& wkt_field,
-                             const std::string& height_field) {
-  ReaderOptions ro;
-  ro.format = parse_input_format(format);
-  ro.wkt_field = wkt_field;
-  ro.height_field = height_field;
-  FeatureReader reader(input, ro);
-  LoadedFeatures out;
-  while (auto f = reader.next()) {
-    if (!f->geometry) {
-      ++out.unreadable;
-      continue;
-    }
-    out.geometries.push_back(std::move(*f->geometry));
-    if (!height_field.empty()) out.heights_m.push_back(f->height_m.value_or(0.0));
-  }
-  return out;
-}
 
 namespace {
 
