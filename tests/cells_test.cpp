@@ -3,6 +3,9 @@
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
 
 #include <cmath>
 #include <cstdio>
@@ -123,7 +126,7 @@ TEST(GeographicCells, DifferenceFormulaAgreesWithPlainQ) {
 }
 
 // The nominal area of a geographic cell is the equatorial-degree convention a²·Δλ·Δφ (documented in cells.hpp):
-// a 1° cell of WGS 84 is (2πa/360)² = 12 391 557 235.9 m² (111 319.49 m squared, common practice).
+// a 1° cell of WGS 84 is (2πa/360)² (a degree of 111 319.49 m both ways, common practice).
 TEST(GeographicCells, NominalAreaIsTheEquatorialDegreeSquare) {
   const CellGrid g(grid("EPSG:4326", 0, 1, 1, -1, 1, 1));
   const double degree_m = 2 * t::pi * t::wgs84.a_m / 360;
@@ -301,6 +304,187 @@ TEST(ClassAreas, ProjectedRasters) {
   // 200 km east of the central meridian the grid overstates (k > 1): the naive count overstates the true area.
   EXPECT_GT(ur[1].difference_m2, 0);
   EXPECT_THROW(u.add_row_count(0, 3, 1), Error);
+}
+
+// ---- the command ---------------------------------------------------------------------------------------------------
+
+#ifdef GRIDTRUTH_CLI
+const std::string cli = GRIDTRUTH_CLI;
+#else
+const std::string cli;
+#endif
+
+struct CommandRun {
+  int status = -1;
+  std::string out, err;
+};
+
+std::string slurp(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+std::string temp_path(const std::string& name) {
+  return ::testing::TempDir() + "cells_test_" + std::to_string(::getpid()) + "_" + name;
+}
+
+/// Runs `gridtruth ARGS` through the shell, as a user does.
+CommandRun run(const std::string& args) {
+  const std::string out = temp_path("stdout"), err = temp_path("stderr");
+  const int raw = std::system((cli + " " + args + " >" + out + " 2>" + err).c_str());
+  CommandRun r;
+  r.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+  r.out = slurp(out);
+  r.err = slurp(err);
+  std::remove(out.c_str());
+  std::remove(err.c_str());
+  return r;
+}
+
+std::vector<std::vector<std::string>> csv_rows(const std::string& text) {
+  std::vector<std::vector<std::string>> rows;
+  std::istringstream in(text);
+  std::string line;
+  while (std::getline(in, line)) {
+    std::vector<std::string> fields;
+    std::istringstream f(line);
+    std::string field;
+    while (std::getline(f, field, ',')) fields.push_back(field);
+    if (!line.empty() && line.back() == ',') fields.emplace_back();
+    rows.push_back(fields);
+  }
+  return rows;
+}
+
+class CellsCommand : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    if (cli.empty()) GTEST_SKIP() << "GRIDTRUTH_CLI is not defined";
+  }
+};
+
+// Geographic grid: the CSV columns of issue 9, one record per row, the 1° cell of Snyder 1987 eq. 3-12
+// (12 308 463 893.975 m² for 0–1°N), the documented equatorial-degree nominal area, ratio = true / nominal.
+TEST_F(CellsCommand, GeographicGridCsv) {
+  const CommandRun r = run("cells --grid-crs EPSG:4326 --origin 0,90 --pixel 1,-1 --size 3,180");
+  ASSERT_EQ(r.status, 0) << r.err;
+  const auto rows = csv_rows(r.out);
+  ASSERT_EQ(rows.size(), 181u);
+  EXPECT_EQ(rows[0], (std::vector<std::string>{"row_start", "row_end", "col_start", "col_end", "cells",
+                                                "true_area_m2", "nominal_area_m2", "ratio"}));
+  const auto& row89 = rows[90];  // 1°N → 0°
+  EXPECT_EQ(row89[0], "89");
+  EXPECT_EQ(row89[1], "90");
+  EXPECT_EQ(row89[2], "0");
+  EXPECT_EQ(row89[3], "3");
+  EXPECT_EQ(row89[4], "3");
+  EXPECT_NEAR(std::stod(row89[5]), 3 * 12308463893.975, 0.01);
+  const double degree_m = 2 * t::pi * t::wgs84.a_m / 360;
+  EXPECT_NEAR(std::stod(row89[6]), 3 * degree_m * degree_m, 0.01);
+  EXPECT_NEAR(std::stod(row89[7]), std::stod(row89[5]) / std::stod(row89[6]), 1e-15);
+  EXPECT_NEAR(std::stod(rows[1][5]), 3 * 108866681.636, 0.01);  // 90°N → 89°N
+}
+
+// Projected equal-area grid (EPSG:6933): blocks tile the grid and keep their nominal area (common practice).
+TEST_F(CellsCommand, ProjectedGridBlocks) {
+  const std::string out = temp_path("blocks.csv");
+  const CommandRun r = run("cells --grid-crs EPSG:6933 --origin 1000000,6000000 --pixel 1000,-1000 --size 200,100 "
+                    "--block 64 --out " + out);
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_EQ(r.out, "");
+  const auto rows = csv_rows(slurp(out));
+  std::remove(out.c_str());
+  ASSERT_EQ(rows.size(), 1u + 4 * 2);
+  std::uint64_t cells = 0;
+  for (std::size_t k = 1; k < rows.size(); ++k) {
+    cells += std::stoull(rows[k][4]);
+    EXPECT_NEAR(std::stod(rows[k][7]), 1, 1e-9) << k;
+    EXPECT_NEAR(std::stod(rows[k][6]), 1e6 * std::stod(rows[k][4]), 1e-3);
+  }
+  EXPECT_EQ(cells, 20000u);
+  EXPECT_EQ(rows.back()[0], "64");
+  EXPECT_EQ(rows.back()[1], "100");
+  EXPECT_EQ(rows.back()[2], "192");
+  EXPECT_EQ(rows.back()[3], "200");
+}
+
+TEST_F(CellsCommand, BadOptionsExitTwoWithOneLine) {
+  for (const std::string args : {"cells --grid-crs EPSG:4326 --origin 0,90 --pixel 1,-1",
+                                 "cells --grid-crs EPSG:4326 --origin 0,90 --pixel 1,-1 --size 0,3",
+                                 "cells --grid-crs EPSG:4326 --origin 0,90 --pixel 1 --size 1,3",
+                                 "cells --grid-crs EPSG:4326 --origin 0,95 --pixel 1,-1 --size 1,3",
+                                 "cells --grid-crs EPSG:999999 --origin 0,0 --pixel 1,-1 --size 1,3",
+                                 "cells --grid-crs EPSG:6933 --origin 0,0 --pixel 1,-1 --size 1,3 --block 0",
+                                 "cells --grid-crs EPSG:4326 --origin 0,2 --pixel 1,-1 --size 4,3 --classes /nonexistent.raw"}) {
+    const CommandRun r = run(args);
+    EXPECT_EQ(r.status, 2) << args;
+    EXPECT_EQ(r.out, "") << args;
+    EXPECT_FALSE(r.err.empty()) << args;
+    EXPECT_LE(std::count(r.err.begin(), r.err.end(), '\n'), 3) << args << "\n" << r.err;
+  }
+}
+
+// Class areas through the command: the raster of ClassAreas.GeographicRasterAgainstHandSums as raw uint8 codes and as
+// counts per (row, class); the hand sums come from the plain closed form (Snyder 1987 eq. 3-12).
+TEST_F(CellsCommand, ClassAreasFromRawAndCounts) {
+  const std::string raw = temp_path("codes.raw"), counts = temp_path("counts.csv");
+  {
+    std::ofstream f(raw, std::ios::binary);
+    const unsigned char codes[12] = {1, 1, 2, 7, 2, 2, 2, 7, 1, 9, 9, 9};
+    f.write(reinterpret_cast<const char*>(codes), 12);
+    std::ofstream c(counts, std::ios::binary);
+    c << "row,class,count\n0,1,2\n0,2,1\n0,7,1\n1,2,3\n1,7,1\n2,1,1\n2,9,3\n";
+  }
+  const double a12 = t::quadrangle_area_m2(t::wgs84, 1, 2, 1);
+  const double a01 = t::quadrangle_area_m2(t::wgs84, 0, 1, 1);
+  const double a10s = t::quadrangle_area_m2(t::wgs84, -1, 0, 1);
+  const std::map<std::string, double> expected = {{"1", 2 * a12 + a10s}, {"2", a12 + 3 * a01}, {"7", a12 + a01}};
+  const std::map<std::string, std::string> expected_cells = {{"1", "3"}, {"2", "4"}, {"7", "2"}};
+  const std::string grid_args = "cells --grid-crs EPSG:4326 --origin 10,2 --pixel 1,-1 --size 4,3 --nodata 9 ";
+  for (const std::string& input : {raw, counts}) {
+    const CommandRun r = run(grid_args + "--classes " + input);
+    ASSERT_EQ(r.status, 0) << r.err;
+    const auto rows = csv_rows(r.out);
+    ASSERT_EQ(rows.size(), 4u) << r.out;
+    EXPECT_EQ(rows[0], (std::vector<std::string>{"class", "cells", "true_area_m2", "naive_area_m2", "difference_m2",
+                                                  "difference_pct"}));
+    for (std::size_t k = 1; k < rows.size(); ++k) {
+      const std::string& code = rows[k][0];
+      ASSERT_TRUE(expected.count(code)) << code;
+      EXPECT_EQ(rows[k][1], expected_cells.at(code));
+      EXPECT_NEAR(std::stod(rows[k][2]), expected.at(code), 0.01) << code;
+      EXPECT_NEAR(std::stod(rows[k][4]), std::stod(rows[k][3]) - expected.at(code), 0.01) << code;
+    }
+  }
+  // A raw raster of the wrong size, and counts for a projected grid, are refused.
+  EXPECT_EQ(run("cells --grid-crs EPSG:4326 --origin 10,2 --pixel 1,-1 --size 4,4 --classes " + raw).status, 2);
+  EXPECT_EQ(run("cells --grid-crs EPSG:6933 --origin 0,0 --pixel 1000,-1000 --size 4,3 --classes " + counts).status,
+            2);
+  std::remove(raw.c_str());
+  std::remove(counts.c_str());
+}
+
+// uint16 codes on an equal-area grid: true = naive (equal-area guarantee, common practice).
+TEST_F(CellsCommand, Uint16CodesOnAnEqualAreaGrid) {
+  const std::string raw = temp_path("codes16.raw");
+  {
+    std::ofstream f(raw, std::ios::binary);
+    const unsigned char le[8] = {0x2C, 0x01, 0x2C, 0x01, 0x2D, 0x01, 0x2C, 0x01};  // 300, 300, 301, 300
+    f.write(reinterpret_cast<const char*>(le), 8);
+  }
+  const CommandRun r = run("cells --grid-crs EPSG:6933 --origin 0,3000000 --pixel 500,-500 --size 2,2 --class-type uint16 "
+                    "--classes " + raw);
+  std::remove(raw.c_str());
+  ASSERT_EQ(r.status, 0) << r.err;
+  const auto rows = csv_rows(r.out);
+  ASSERT_EQ(rows.size(), 3u);
+  EXPECT_EQ(rows[1][0], "300");
+  EXPECT_EQ(rows[1][1], "3");
+  EXPECT_NEAR(std::stod(rows[1][2]) / 750000, 1, 1e-9);
+  EXPECT_EQ(rows[2][0], "301");
+  EXPECT_NEAR(std::stod(rows[2][2]) / 250000, 1, 1e-9);
 }
 
 }  // namespace
