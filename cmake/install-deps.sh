@@ -8,6 +8,7 @@ packages=(
   libboost-dev libfmt-dev nlohmann-json3-dev libcli11-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen
+  librsvg2-bin libxml2-utils zlib1g-dev
   clang libclang-rt-14-dev
 )
 missing=()

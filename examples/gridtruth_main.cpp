@@ -8,6 +8,7 @@
 
 #include <CLI/CLI.hpp>
 #include <chrono>
+#include <cctype>
 #include <cmath>
 #include <cstdio>
 #include <fstream>
@@ -22,6 +23,7 @@
 #include "gridtruth/audit.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "gridtruth/report.hpp"
 #include "gridtruth/runner.hpp"
 #include "gridtruth/tolerance.hpp"
 
@@ -50,6 +52,8 @@ struct AuditArgs {
   std::string wkt_field = "wkt";
   std::string out;
   std::string summary;
+  std::string report;
+  std::string geojson;
   std::string units = "metric";
   std::string format = "auto";
   unsigned threads = 0;
@@ -99,6 +103,15 @@ int run_audit(const AuditArgs& args) {
   if (!(args.densify_tolerance_m > 0) || !std::isfinite(args.densify_tolerance_m))
     return fail_run("--densify-tolerance must be a positive number of metres");
   if (args.wkt_field.empty()) return fail_run("--wkt-field must name a column");
+  auto ends_with = [](const std::string& s, const std::string& tail) {
+    if (s.size() < tail.size()) return false;
+    for (std::size_t k = 0; k < tail.size(); ++k)
+      if (std::tolower(static_cast<unsigned char>(s[s.size() - tail.size() + k])) != tail[k]) return false;
+    return true;
+  };
+  const bool report_html = ends_with(args.report, ".html") || ends_with(args.report, ".htm");
+  if (!args.report.empty() && !report_html && !ends_with(args.report, ".svg"))
+    return fail_run("--report must name a .svg or .html file (got " + args.report + ")");
 
   AuditOptions options;
   options.source_crs = args.source_crs;
@@ -140,9 +153,10 @@ int run_audit(const AuditArgs& args) {
   struct OutputError : std::runtime_error {
     using std::runtime_error::runtime_error;
   };
-  std::ofstream out_file, summary_file;
+  std::ofstream out_file, summary_file, report_file, geojson_file;
   std::ostream* out = &std::cout;
   std::optional<ResultCsvWriter> writer;
+  std::optional<ResultGeoJsonWriter> geojson;
   auto open_outputs = [&] {
     if (!args.out.empty()) {
       out_file.open(args.out, std::ios::binary | std::ios::trunc);
@@ -159,12 +173,39 @@ int run_audit(const AuditArgs& args) {
         throw OutputError("cannot write " + args.summary);
       }
     }
+    // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
+    auto open_extra = [&](std::ofstream& file, const std::string& path) {
+      if (path.empty()) return;
+      file.open(path, std::ios::binary | std::ios::trunc);
+      if (!file) {
+        for (const std::string* p : {&args.out, &args.summary, &args.report, &args.geojson})
+          if (!p->empty() && p != &path && *p != path) std::remove(p->c_str());
+        throw OutputError("cannot write " + path);
+      }
+    };
+    open_extra(report_file, args.report);
+    open_extra(geojson_file, args.geojson);
+    if (geojson_file.is_open()) {
+      geojson.emplace(geojson_file);
+      geojson->with_combined_factor(with_heights);
+    }
     writer.emplace(*out);
     writer->with_combined_factor(with_heights);
     writer->write_header();
   };
 
   cli::AuditSummary summary;
+  std::optional<ReportCollector> report;
+  if (!args.report.empty()) {
+    ReportOptions report_options;
+    report_options.input_name = args.input == "-" ? std::string("standard input") : args.input;
+    report_options.length_unit = units.length_unit;
+    report_options.area_unit = units.area_unit;
+    report_options.length_unit_m = units.length_m;
+    report_options.area_unit_m2 = units.area_m2;
+    report_options.caution = cli::caution_text;
+    report.emplace(*auditor, report_options);
+  }
   Progress progress;
   RunOptions run_options;
   run_options.threads = args.threads;
@@ -181,9 +222,13 @@ int run_audit(const AuditArgs& args) {
           writer->write_row(feature.id, annotated);
         }
         summary.add(feature, result);
+        if (report) report->add(feature.id, *feature.geometry, result);
+        if (geojson) geojson->write_feature(feature.id, *feature.geometry, result);
       } else {
         writer->write_unread_row(feature.id, feature.error, feature.declared_type);
         summary.add_unread(feature);
+        if (report) report->add_unread(feature.id);
+        if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type);
       }
       progress.update(summary.read());
     });
@@ -202,6 +247,17 @@ int run_audit(const AuditArgs& args) {
   out->flush();
   if (!*out) return fail_run("could not write the CSV output" + (args.out.empty() ? "" : " to " + args.out));
 
+  if (geojson) {
+    geojson->finish();
+    geojson_file.flush();
+    if (!geojson_file) return fail_run("could not write " + args.geojson);
+  }
+  if (report) {
+    if (report_html) report->write_html(report_file);
+    else report->write_svg(report_file);
+    report_file.flush();
+    if (!report_file) return fail_run("could not write " + args.report);
+  }
   const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units};
   if (!args.summary.empty()) {
     summary_file << summary.to_json(context).dump(2) << "\n";
@@ -253,6 +309,14 @@ const char* audit_footer =
     "  rhumb             constant azimuth: parallels and meridians (zones drawn along them)\n"
     "  straight-in=CRS   straight in that projected CRS's plane, e.g. where the data were digitised\n"
     "                    (default for a projected --source-crs: straight in the source CRS)\n"
+    "\n"
+    "Pictures (--report FILE.svg | FILE.html) and GeoJSON (--geojson FILE):\n"
+    "  the SVG draws the features in the target CRS's plane filled by their error in ppm (blue: the grid\n"
+    "  understates, orange to brown: it overstates), over isolines of the projection's scale with the line of\n"
+    "  true scale dashed and the CRS's area of use outlined; beside it a histogram of ppm with the tolerances,\n"
+    "  the budget parts of the worst features, and a caption. The HTML page holds the same picture and the\n"
+    "  summary tables; neither needs a network or a script. --geojson writes the features as read, with every\n"
+    "  CSV column in their properties.\n"
     "\n"
     "Summary units (--units; the CSV stays in SI units):\n"
     "  metric           m, m2\n"
@@ -310,6 +374,11 @@ int main(int argc, char** argv) {
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
   audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");
   audit->add_option("--summary", args.summary, "also write the summary to this file as JSON");
+  audit->add_option("--report", args.report,
+                    "also draw the audit as a picture: FILE.svg, or FILE.html (the same picture with the summary "
+                    "tables)");
+  audit->add_option("--geojson", args.geojson,
+                    "also write the input features with every CSV column in their properties, as GeoJSON");
   audit->add_option("--units", args.units, "units of the summary's totals")
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();

@@ -1,0 +1,120 @@
+// gridtruth — pictures for reports: a self-contained SVG (and an HTML page wrapping it) of an audit, and a
+// GeoJSON writer that carries every result column into the features' properties.
+//
+// The picture, in the target CRS's plane: the features filled by their error in ppm (area for polygons, length for
+// lines) on a diverging scale centred on zero; under them the projection's scale field as isolines in ppm with the
+// line of true scale (scale = 1) drawn heavy and dashed, and the target CRS's area of use outlined; axes and a scale
+// bar in the CRS's unit. Beside it: the legend, a histogram of per-feature ppm with the tolerances marked, stacked
+// bars of the budget parts of the worst features; under it a caption naming everything the figures depend on.
+// The SVG uses no script, no external font, image or style sheet: any renderer draws it offline.
+#pragma once
+
+#include <cstddef>
+#include <iosfwd>
+#include <memory>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/geometry.hpp"
+#include "gridtruth/tolerance.hpp"
+
+namespace gridtruth {
+
+/// How a report is drawn. Units are in the member names.
+struct ReportOptions {
+  std::string input_name;  ///< what the caption calls the input (a file name), may be empty
+  /// The scale field drawn under the features: Metric::area → areal scale a·b, Metric::length → linear scale
+  /// √(a·b) (equal to the scale in every direction for a conformal projection). Absent: area when any polygon was
+  /// collected, else length.
+  std::optional<Metric> field_metric;
+  std::string date;  ///< the date in the caption; empty: today's date (UTC, YYYY-MM-DD)
+  // Units of the caption's totals (the figures themselves are in ppm and in the CRS's unit).
+  std::string length_unit = "m";  ///< symbol of the totals' length unit
+  std::string area_unit = "m2";   ///< symbol of the totals' area unit
+  double length_unit_m = 1;       ///< metres per length unit
+  double area_unit_m2 = 1;        ///< square metres per area unit
+  std::size_t max_drawn_features = 3000;    ///< features drawn one by one (the worst by |ppm| are kept)
+  std::size_t max_stored_vertices = 300000;  ///< projected vertices kept for drawing, all features together
+  std::size_t max_aggregated_points = 20000; ///< further features kept as centroids, drawn as cells of mean ppm
+  std::size_t histogram_sample = 50000;      ///< ppm values kept for the histogram (a uniform sample beyond)
+  std::size_t worst_count = 10;              ///< features in the stacked bars of budget parts
+  int field_samples = 48;                    ///< sample points of the scale field per side of the extent (≥ 4)
+  std::string caution =
+      "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
+};
+
+/// Collects audited features and draws the report. Memory stays bounded whatever the number of features: the
+/// geometry of at most max_drawn_features features (simplified below a pixel, at most max_stored_vertices vertices
+/// in all), the centroids of at most max_aggregated_points others, a sample of histogram_sample ppm values and the
+/// worst_count worst budgets.
+///
+/// Not thread-safe: one thread adds at a time (the sink of run_audit() qualifies). The collector keeps its own
+/// clone of the auditor, so the caller's auditor stays free for other use.
+class ReportCollector {
+ public:
+  ReportCollector(const Auditor& auditor, ReportOptions options = {});
+  ~ReportCollector();
+  ReportCollector(ReportCollector&&) noexcept;
+  ReportCollector& operator=(ReportCollector&&) noexcept;
+  ReportCollector(const ReportCollector&) = delete;
+  ReportCollector& operator=(const ReportCollector&) = delete;
+
+  /// One audited feature, with its geometry in the auditor's source CRS.
+  void add(std::string_view id, const Geometry& geometry, const AuditResult& result);
+  /// One feature that could not be read (counted as invalid, not drawn).
+  void add_unread(std::string_view id);
+
+  /// Writes the SVG document (with its XML declaration).
+  void write_svg(std::ostream& out) const;
+  /// Writes an HTML page with the same SVG inline and the summary tables (counts, totals, worst features).
+  void write_html(std::ostream& out) const;
+
+  /// The scale field in force (see ReportOptions::field_metric).
+  Metric field_metric() const;
+  /// The isolines where the scale field equals `scale` (1: the lines of true scale), as polylines in the target
+  /// CRS's plane (easting, northing in its linear unit), traced by marching squares over the sample grid of the
+  /// field (the grid covers the features' extent in the source CRS with a margin of a quarter of each span, at
+  /// least 0.05 units). Each crossing is interpolated linearly between two samples and then projected.
+  /// Empty when nothing was collected or the level does not occur.
+  std::vector<Path> isolines(double scale) const;
+
+  std::size_t features() const noexcept;  ///< features added (read or not)
+  std::size_t drawn() const noexcept;     ///< features drawn one by one
+  std::size_t aggregated() const noexcept;  ///< features drawn only within aggregated cells
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+/// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as read
+/// (in the source CRS; a CRS other than longitude/latitude on WGS 84 is not what RFC 7946 expects, and GIS
+/// software then needs to be told the CRS), and as properties every column ResultCsvWriter writes for the
+/// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings.
+class ResultGeoJsonWriter {
+ public:
+  explicit ResultGeoJsonWriter(std::ostream& out);
+  /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
+  void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
+  /// One audited feature.
+  void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result);
+  /// One feature that could not be read: null geometry, the columns of ResultCsvWriter::write_unread_row().
+  void write_unread(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt);
+  /// Closes the collection (also written, if not yet, by the destructor).
+  void finish();
+  ~ResultGeoJsonWriter();
+  ResultGeoJsonWriter(const ResultGeoJsonWriter&) = delete;
+  ResultGeoJsonWriter& operator=(const ResultGeoJsonWriter&) = delete;
+
+ private:
+  void write_properties(std::string_view id, const std::string& csv_row);
+  std::ostream* out_;
+  bool combined_factor_ = false;
+  bool first_ = true;
+  bool finished_ = false;
+};
+
+}  // namespace gridtruth

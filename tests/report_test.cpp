@@ -1,0 +1,503 @@
+// Tests of the report pictures (include/gridtruth/report.hpp) and of `gridtruth audit --report/--geojson`.
+// The SVG is checked with real tools from Debian: xmllint (libxml2-utils) for well-formedness, rsvg-convert
+// (librsvg2-bin) for rendering; the HTML page with headless Chromium when it is installed.
+#include "gridtruth/report.hpp"
+
+#include <GeographicLib/TransverseMercator.hpp>
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+#include <stdlib.h>
+#include <sys/wait.h>
+#include <zlib.h>
+
+#include <cmath>
+#include <cstdint>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <map>
+#include <nlohmann/json.hpp>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "gridtruth/audit.hpp"
+#include "gridtruth/io.hpp"
+
+namespace {
+
+using namespace gridtruth;
+using ::testing::HasSubstr;
+
+#ifdef GRIDTRUTH_CLI
+const std::string cli = GRIDTRUTH_CLI;
+#else
+const std::string cli;
+#endif
+const std::string source_dir = GRIDTRUTH_SOURCE_DIR;
+const std::string demo_geojson = source_dir + "/examples/data/habitat_survey.geojson";
+
+std::string slurp(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+void spit(const std::string& path, const std::string& text) {
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+}
+
+std::string shell_quote(const std::string& s) {
+  std::string q = "'";
+  for (const char c : s) {
+    if (c == '\'') q += "'\\''";
+    else q += c;
+  }
+  return q + "'";
+}
+
+int shell(const std::string& cmd) {
+  const int raw = std::system(cmd.c_str());
+  return WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+}
+
+bool have(const std::string& program) { return shell("command -v " + program + " > /dev/null 2>&1") == 0; }
+
+/// A small PNG decoder written for the tests (ISO/IEC 15948: 8-bit greyscale, RGB or RGBA, no interlace):
+/// returns the luminance of every pixel, or nothing when the file is not such a PNG.
+struct Picture {
+  int width = 0, height = 0;
+  std::vector<double> luminance;
+  double mean() const {
+    double s = 0;
+    for (const double v : luminance) s += v;
+    return luminance.empty() ? 0 : s / luminance.size();
+  }
+  double standard_deviation() const {
+    const double m = mean();
+    double s = 0;
+    for (const double v : luminance) s += (v - m) * (v - m);
+    return luminance.empty() ? 0 : std::sqrt(s / luminance.size());
+  }
+};
+
+std::uint32_t be32(const std::string& s, std::size_t at) {
+  return (std::uint32_t(std::uint8_t(s[at])) << 24) | (std::uint32_t(std::uint8_t(s[at + 1])) << 16) |
+         (std::uint32_t(std::uint8_t(s[at + 2])) << 8) | std::uint32_t(std::uint8_t(s[at + 3]));
+}
+
+std::optional<Picture> decode_png(const std::string& bytes) {
+  if (bytes.size() < 8 || bytes.compare(0, 8, "\x89PNG\r\n\x1a\n") != 0) return std::nullopt;
+  Picture p;
+  int colour_type = -1, depth = 0, interlace = 0;
+  std::string idat;
+  for (std::size_t at = 8; at + 12 <= bytes.size();) {
+    const std::uint32_t len = be32(bytes, at);
+    const std::string type = bytes.substr(at + 4, 4);
+    if (at + 12 + len > bytes.size()) return std::nullopt;
+    if (type == "IHDR") {
+      p.width = static_cast<int>(be32(bytes, at + 8));
+      p.height = static_cast<int>(be32(bytes, at + 12));
+      depth = std::uint8_t(bytes[at + 16]);
+      colour_type = std::uint8_t(bytes[at + 17]);
+      interlace = std::uint8_t(bytes[at + 20]);
+    } else if (type == "IDAT") {
+      idat += bytes.substr(at + 8, len);
+    }
+    at += 12 + len;
+  }
+  const int channels = colour_type == 6 ? 4 : colour_type == 2 ? 3 : colour_type == 0 ? 1 : 0;
+  if (channels == 0 || depth != 8 || interlace != 0 || p.width <= 0 || p.height <= 0) return std::nullopt;
+  const std::size_t stride = static_cast<std::size_t>(p.width) * channels;
+  std::vector<unsigned char> raw((stride + 1) * p.height);
+  uLongf raw_len = raw.size();
+  if (uncompress(raw.data(), &raw_len, reinterpret_cast<const Bytef*>(idat.data()), idat.size()) != Z_OK ||
+      raw_len != raw.size())
+    return std::nullopt;
+  std::vector<unsigned char> cur(stride), prev(stride, 0);
+  for (int y = 0; y < p.height; ++y) {
+    const unsigned char filter = raw[y * (stride + 1)];
+    const unsigned char* line = &raw[y * (stride + 1) + 1];
+    for (std::size_t x = 0; x < stride; ++x) {
+      const int a = x >= std::size_t(channels) ? cur[x - channels] : 0, b = prev[x],
+                c = x >= std::size_t(channels) ? prev[x - channels] : 0;
+      int predictor = 0;
+      switch (filter) {
+        case 0: predictor = 0; break;
+        case 1: predictor = a; break;
+        case 2: predictor = b; break;
+        case 3: predictor = (a + b) / 2; break;
+        case 4: {  // Paeth
+          const int pp = a + b - c, pa = std::abs(pp - a), pb = std::abs(pp - b), pc = std::abs(pp - c);
+          predictor = (pa <= pb && pa <= pc) ? a : (pb <= pc ? b : c);
+          break;
+        }
+        default: return std::nullopt;
+      }
+      cur[x] = static_cast<unsigned char>((line[x] + predictor) & 0xff);
+    }
+    for (int x = 0; x < p.width; ++x) {
+      const unsigned char* px = &cur[x * channels];
+      double l = channels >= 3 ? 0.2126 * px[0] + 0.7152 * px[1] + 0.0722 * px[2] : px[0];
+      if (channels == 4) l = l * px[3] / 255.0 + 255.0 * (1 - px[3] / 255.0);  // over white
+      p.luminance.push_back(l);
+    }
+    std::swap(cur, prev);
+  }
+  return p;
+}
+
+/// A square "parcel" of side `side_deg` around (lon, lat), as an open ring.
+Geometry square(double lon, double lat, double side_deg) {
+  const double h = side_deg / 2;
+  return Geometry::polygon({{lon - h, lat - h}, {lon + h, lat - h}, {lon + h, lat + h}, {lon - h, lat + h}});
+}
+
+class ReportTest : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    char tmpl[] = "/tmp/gridtruth-report-XXXXXX";
+    ASSERT_NE(mkdtemp(tmpl), nullptr);
+    dir_ = tmpl;
+  }
+  void TearDown() override {
+    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
+  }
+  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+
+  /// UTM zone 15N (central meridian 93° W) with an area tolerance.
+  static AuditOptions utm15_options() {
+    AuditOptions o;
+    o.target_crs = "EPSG:32615";
+    o.tolerances = Tolerance::parse_list("area=0.1%,length=1:10000");
+    return o;
+  }
+
+  /// Features across the whole zone (96° W to 90° W) between 40° N and 48° N: squares and two lines.
+  static void add_zone_features(const Auditor& auditor, ReportCollector& report) {
+    int n = 0;
+    for (double lon = -95.8; lon <= -90.2; lon += 0.7)
+      for (double lat = 40.5; lat <= 47.5; lat += 1.75) {
+        const Geometry g = square(lon, lat, 0.2);
+        report.add("sq-" + std::to_string(++n), g, auditor.audit(g));
+      }
+    const Geometry line = Geometry::line_string({{-95.9, 40.2}, {-93, 44}, {-90.1, 47.8}});
+    report.add("line-1", line, auditor.audit(line));
+    const Geometry point = Geometry::point({-93.2, 44.9});
+    report.add("monument", point, auditor.audit(point));
+  }
+
+  std::string dir_;
+};
+
+// ---------------------------------------------------------------------------------------------------------------
+
+// Common practice: UTM's k₀ = 0.9996 gives true scale where k₀(1 + x²/2R²) = 1, i.e. x ≈ ±180 km from the
+// central meridian (x = k₀R√(2(1/k₀ − 1)) with R the Gaussian mean radius: 180.4 km at 44° N). Cross-checked
+// point by point with GeographicLib's own transverse Mercator (Karney 2011), independent of PROJ.
+TEST_F(ReportTest, TrueScaleIsolineOfUtmLiesAbout180KmEitherSideOfTheCentralMeridian) {
+  for (const Metric metric : {Metric::length, Metric::area}) {
+    SCOPED_TRACE(metric == Metric::area ? "areal scale" : "linear scale");
+    const Auditor auditor(utm15_options());
+    ReportOptions options;
+    options.field_metric = metric;
+    ReportCollector report(auditor, options);
+    add_zone_features(auditor, report);
+    EXPECT_EQ(report.field_metric(), metric);
+    const std::vector<Path> lines = report.isolines(1.0);
+    ASSERT_FALSE(lines.empty());
+    const double a = 6378137, f = 1 / 298.257223563, e2 = f * (2 - f), k0 = 0.9996;
+    const GeographicLib::TransverseMercator& utm = GeographicLib::TransverseMercator::UTM();
+    std::size_t west = 0, east = 0;
+    double lat_min = 90, lat_max = -90;
+    for (const Path& p : lines) {
+      for (const Coord& c : p) {
+        const double x = c.x - 500000, y = c.y;  // false easting 500 000 m, false northing 0 (northern zone)
+        double lat, lon, gamma, k;
+        utm.Reverse(-93, x, y, lat, lon, gamma, k);
+        lat_min = std::min(lat_min, lat), lat_max = std::max(lat_max, lat);
+        // GeographicLib: the contour point is where the linear scale k is 1 (the areal scale k² is 1 there too);
+        // 1e-6 of k is about 230 m of easting there.
+        EXPECT_NEAR(k, 1.0, 1e-6) << "at E " << c.x << " N " << c.y;
+        // Common practice: about 180 km from the central meridian (R = √(MN) at the point's latitude).
+        const double s2 = std::pow(std::sin(lat * M_PI / 180), 2);
+        const double R = a * std::sqrt(1 - e2) / (1 - e2 * s2);
+        const double expected = k0 * R * std::sqrt(2 * (1 / k0 - 1));
+        EXPECT_NEAR(std::fabs(x), expected, 1000) << "at E " << c.x << " N " << c.y;
+        EXPECT_NEAR(std::fabs(x), 180000, 3000);
+        (x < 0 ? west : east) += 1;
+      }
+    }
+    EXPECT_GT(west, 10u);
+    EXPECT_GT(east, 10u);
+    // The lines run the height of the sampled extent (the features span 40.2° N to 47.8° N).
+    EXPECT_LT(lat_min, 40.5);
+    EXPECT_GT(lat_max, 47.5);
+    // A level that the field never reaches has no isoline.
+    EXPECT_TRUE(report.isolines(1.5).empty());
+  }
+}
+
+TEST_F(ReportTest, SvgIsWellFormedRendersAndShowsItsParts) {
+  ASSERT_TRUE(have("xmllint")) << "xmllint is missing: run cmake/install-deps.sh (libxml2-utils)";
+  ASSERT_TRUE(have("rsvg-convert")) << "rsvg-convert is missing: run cmake/install-deps.sh (librsvg2-bin)";
+  const Auditor auditor(utm15_options());
+  ReportOptions options;
+  options.input_name = "zone <parcels> & lines";  // must be escaped
+  options.date = "2026-03-01";
+  ReportCollector report(auditor, options);
+  add_zone_features(auditor, report);
+  report.add_unread("broken");
+  {
+    std::ofstream out(path("report.svg"), std::ios::binary);
+    report.write_svg(out);
+  }
+  const std::string svg = slurp(path("report.svg"));
+  EXPECT_EQ(shell("xmllint --noout " + shell_quote(path("report.svg")) + " 2> " + shell_quote(path("xmllint.err"))), 0)
+      << slurp(path("xmllint.err"));
+  for (const char* id : {"legend", "histogram", "caption", "caution", "map", "scale-field", "true-scale",
+                         "area-of-use", "features", "axes", "scale-bar", "budget-bars", "tolerance-marks"})
+    EXPECT_THAT(svg, HasSubstr(std::string("id=\"") + id + "\"")) << id;
+  EXPECT_THAT(svg, HasSubstr("support, and do not replace, licensed survey practice and local codes"));
+  EXPECT_THAT(svg, HasSubstr("WGS 84 / UTM zone 15N [EPSG:32615]"));
+  EXPECT_THAT(svg, HasSubstr("zone &lt;parcels&gt; &amp; lines"));
+  EXPECT_THAT(svg, HasSubstr("2026-03-01"));
+  EXPECT_THAT(svg, HasSubstr("area&lt;=1000ppm, length&lt;=100ppm"));
+  EXPECT_THAT(svg, HasSubstr("Easting (metre)"));
+  EXPECT_THAT(svg, HasSubstr("1 invalid"));
+  // No external resource of any kind.
+  EXPECT_EQ(svg.find("<script"), std::string::npos);
+  EXPECT_EQ(svg.find("href"), std::string::npos);
+  EXPECT_EQ(svg.find("@import"), std::string::npos);
+  EXPECT_EQ(svg.find("@font-face"), std::string::npos);
+
+  ASSERT_EQ(shell("rsvg-convert " + shell_quote(path("report.svg")) + " -o " + shell_quote(path("report.png"))), 0);
+  const auto picture = decode_png(slurp(path("report.png")));
+  ASSERT_TRUE(picture.has_value());
+  EXPECT_GE(picture->width, 1000);
+  // Not blank: a page of white with dark text, lines and coloured fills varies a good deal.
+  EXPECT_GT(picture->standard_deviation(), 20);
+  EXPECT_LT(picture->mean(), 252);
+
+  // The blank check can fail: an empty white picture has no variance.
+  spit(path("blank.svg"),
+       "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"200\" height=\"100\"><rect width=\"200\" height=\"100\" "
+       "fill=\"#ffffff\"/></svg>");
+  ASSERT_EQ(shell("rsvg-convert " + shell_quote(path("blank.svg")) + " -o " + shell_quote(path("blank.png"))), 0);
+  const auto blank = decode_png(slurp(path("blank.png")));
+  ASSERT_TRUE(blank.has_value());
+  EXPECT_LT(blank->standard_deviation(), 1);
+}
+
+TEST_F(ReportTest, ColoursFollowTheSignAndTheWorstFeaturesAreDrawnOnTop) {
+  // Hand-made results: one feature the grid overstates (+800 ppm), one it understates (−300 ppm). The +800 is
+  // added first, so drawing in input order would put it underneath.
+  const Auditor auditor(utm15_options());
+  ReportCollector report(auditor);
+  auto result = [](double ppm) {
+    AuditResult r;
+    r.type = GeometryType::polygon;
+    Budget b;
+    b.reference = 1e6;
+    b.error = ppm;
+    b.error_ppm = ppm;
+    b.grid = b.reference + b.error;
+    b.from_scale = b.error;
+    r.area = b;
+    return r;
+  };
+  report.add("over", square(-93.5, 44, 0.1), result(800));
+  report.add("under", square(-92.5, 44, 0.1), result(-300));
+  std::ostringstream svg;
+  report.write_svg(svg);
+  const std::string s = svg.str();
+  // The colour of each feature's path (the fill before its <title>).
+  auto fill_of = [&](const std::string& id) {
+    const auto t = s.find("<title>" + id + ":");
+    EXPECT_NE(t, std::string::npos) << id;
+    const auto f = s.rfind("fill=\"#", t);
+    return s.substr(f + 6, 7);
+  };
+  const std::string over = fill_of("over"), under = fill_of("under");
+  EXPECT_NE(over, under);
+  // Orange/brown has more red than blue; blue has more blue than red.
+  auto channel = [](const std::string& hex, int k) { return std::stoi(hex.substr(1 + 2 * k, 2), nullptr, 16); };
+  EXPECT_GT(channel(over, 0), channel(over, 2)) << over;
+  EXPECT_GT(channel(under, 2), channel(under, 0)) << under;
+  // The worse feature (|ppm| 800 against 300) is drawn later, so on top where they would overlap.
+  EXPECT_GT(s.find("<title>over:"), s.find("<title>under:"));
+}
+
+TEST_F(ReportTest, LargeInputsStayBoundedInMemoryAndFileSize) {
+  const Auditor auditor(utm15_options());
+  ReportOptions options;
+  options.max_drawn_features = 400;
+  const std::size_t n = 6000;
+  ReportCollector report(auditor, options);
+  std::mt19937 rng(7);
+  std::printf("seed 7\n");
+  std::uniform_real_distribution<double> lon(-95.9, -90.1), lat(40, 48), ppm(-900, 900);
+  for (std::size_t k = 0; k < n; ++k) {
+    // A finely drawn circle of 1 km: 400 vertices, well below a pixel apart at the scale of the zone.
+    const double cx = lon(rng), cy = lat(rng);
+    Path ring;
+    for (int v = 0; v < 400; ++v) {
+      const double t = 2 * M_PI * v / 400;
+      ring.push_back({cx + 0.006 * std::cos(t), cy + 0.0045 * std::sin(t)});
+    }
+    AuditResult r;
+    r.type = GeometryType::polygon;
+    Budget b;
+    b.reference = 1e6;
+    b.error_ppm = ppm(rng);
+    b.error = b.error_ppm;
+    r.area = b;
+    report.add("f" + std::to_string(k), Geometry::polygon(ring), r);
+  }
+  EXPECT_EQ(report.features(), n);
+  EXPECT_EQ(report.drawn(), 400u);
+  EXPECT_EQ(report.drawn() + report.aggregated(), n);
+  std::ostringstream svg;
+  report.write_svg(svg);
+  // 400 vertices each for 6000 features would be ~24 MB of path data; the picture stays small.
+  EXPECT_LT(svg.str().size(), 1500000u);
+  EXPECT_THAT(svg.str(), HasSubstr("id=\"aggregated\""));
+  EXPECT_THAT(svg.str(), HasSubstr("as cells of mean ppm"));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// The command
+
+class ReportCliTest : public ReportTest {
+ protected:
+  void SetUp() override {
+    if (cli.empty()) GTEST_SKIP() << "the gridtruth executable was not built";
+    ReportTest::SetUp();
+  }
+  int audit(const std::vector<std::string>& args) {
+    std::string cmd = shell_quote(cli) + " audit";
+    for (const auto& a : args) cmd += " " + shell_quote(a);
+    return shell(cmd + " > " + shell_quote(path("stdout")) + " 2> " + shell_quote(path("stderr")));
+  }
+};
+
+/// An RFC 4180 parser written for the tests: records of fields.
+std::vector<std::vector<std::string>> parse_csv(const std::string& text) {
+  std::vector<std::vector<std::string>> rows(1);
+  std::string field;
+  bool quoted = false;
+  for (std::size_t k = 0; k < text.size(); ++k) {
+    const char c = text[k];
+    if (quoted) {
+      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') field += '"', ++k;
+      else if (c == '"') quoted = false;
+      else field += c;
+    } else if (c == '"') {
+      quoted = true;
+    } else if (c == ',') {
+      rows.back().push_back(field), field.clear();
+    } else if (c == '\r') {
+    } else if (c == '\n') {
+      rows.back().push_back(field), field.clear();
+      rows.emplace_back();
+    } else {
+      field += c;
+    }
+  }
+  if (rows.back().empty()) rows.pop_back();
+  return rows;
+}
+
+TEST_F(ReportCliTest, GeojsonCarriesEveryCsvColumnAndTheCoordinatesAsRead) {
+  const int status = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.1%", "--out",
+                            path("rows.csv"), "--geojson", path("out.geojson")});
+  EXPECT_EQ(status, 1) << slurp(path("stderr"));  // the demo holds an invalid feature and failures
+  const auto rows = parse_csv(slurp(path("rows.csv")));
+  ASSERT_GE(rows.size(), 2u);
+  const auto doc = nlohmann::json::parse(slurp(path("out.geojson")));
+  ASSERT_EQ(doc.at("type"), "FeatureCollection");
+  const auto& features = doc.at("features");
+  ASSERT_EQ(features.size(), rows.size() - 1);
+  const auto input = nlohmann::json::parse(slurp(demo_geojson));
+  const std::vector<std::string>& header = rows[0];
+  for (std::size_t k = 0; k < features.size(); ++k) {
+    const auto& f = features[k];
+    ASSERT_EQ(f.at("type"), "Feature");
+    const auto& props = f.at("properties");
+    ASSERT_EQ(rows[k + 1].size(), header.size());
+    for (std::size_t c = 0; c < header.size(); ++c) {
+      SCOPED_TRACE(header[c] + " of row " + std::to_string(k));
+      ASSERT_TRUE(props.contains(header[c]));
+      const std::string& cell = rows[k + 1][c];
+      const auto& v = props.at(header[c]);
+      if (v.is_string()) EXPECT_EQ(v.get<std::string>(), cell);
+      else if (v.is_null()) EXPECT_EQ(cell, "");
+      else EXPECT_EQ(v.get<double>(), std::strtod(cell.c_str(), nullptr));
+    }
+    // The geometry as read: the same coordinates as the input feature of the same id.
+    const std::string id = props.at("id");
+    EXPECT_EQ(f.at("id"), id);
+    for (const auto& in : input.at("features")) {
+      if (!in.contains("id") || in.at("id") != id) continue;
+      if (props.at("status") == "invalid" && f.at("geometry").is_null()) continue;
+      EXPECT_EQ(f.at("geometry").at("type"), in.at("geometry").at("type")) << id;
+      EXPECT_EQ(f.at("geometry").at("coordinates"), in.at("geometry").at("coordinates")) << id;
+    }
+  }
+  // Numbers are numbers, verdicts are text.
+  EXPECT_TRUE(features[0].at("properties").at("vertices").is_number());
+  EXPECT_TRUE(features[0].at("properties").at("verdict").is_string());
+}
+
+TEST_F(ReportCliTest, ReportWritesSvgOrHtmlAndRejectsOtherNames) {
+  EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.svg"), "--out", path("rows.csv")}), 1);
+  const std::string svg = slurp(path("r.svg"));
+  EXPECT_THAT(svg, HasSubstr("<svg"));
+  EXPECT_THAT(svg, HasSubstr("id=\"true-scale\""));
+  EXPECT_THAT(svg, HasSubstr("habitat_survey.geojson"));
+  // The CSV is unchanged by the option.
+  EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--out", path("plain.csv")}), 1);
+  EXPECT_EQ(slurp(path("rows.csv")), slurp(path("plain.csv")));
+
+  EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.html"), "--units", "hectare",
+                   "--out", path("rows2.csv")}),
+            1);
+  const std::string html = slurp(path("r.html"));
+  EXPECT_THAT(html, HasSubstr("<!DOCTYPE html>"));
+  EXPECT_THAT(html, HasSubstr("<svg"));
+  EXPECT_THAT(html, HasSubstr("id=\"totals\""));
+  EXPECT_THAT(html, HasSubstr("id=\"worst\""));
+  EXPECT_THAT(html, HasSubstr("area (ha)"));
+  EXPECT_EQ(html.find("<script"), std::string::npos);
+
+  EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.png")}), 2);
+  EXPECT_THAT(slurp(path("stderr")), HasSubstr("--report must name a .svg or .html file"));
+  EXPECT_EQ(slurp(path("stdout")), "");
+  EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("no/such/dir/r.svg")}), 2);
+  EXPECT_THAT(slurp(path("stderr")), HasSubstr("cannot write"));
+}
+
+TEST_F(ReportCliTest, HtmlRendersInHeadlessChromium) {
+  std::string chromium;
+  for (const char* name : {"chromium", "chromium-browser"})
+    if (have(name)) chromium = name;
+  if (chromium.empty())
+    GTEST_SKIP() << "Chromium is not installed (Debian package chromium): the HTML rendering check is skipped";
+  ASSERT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.html"), "--out", path("rows.csv")}), 1);
+  const std::string profile = path("profile");
+  const std::string cmd = chromium +
+                          " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                          "--disable-background-networking --disable-component-update --disable-sync "
+                          "--user-data-dir=" + shell_quote(profile) + " --window-size=1300,1400 --screenshot=" +
+                          shell_quote(path("html.png")) + " " + shell_quote("file://" + path("r.html")) +
+                          " > /dev/null 2>&1";
+  ASSERT_EQ(shell(cmd), 0);
+  const auto picture = decode_png(slurp(path("html.png")));
+  ASSERT_TRUE(picture.has_value());
+  EXPECT_GT(picture->standard_deviation(), 20);
+}
+
+}  // namespace
