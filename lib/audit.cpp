@@ -11,7 +11,6 @@
 #include <cstdio>
 #include <limits>
 #include <functional>
-#include <sstream>
 #include <utility>
 
 #include "gridtruth/error.hpp"
@@ -830,7 +829,7 @@ std::string Auditor::Impl::transform_vertices(std::vector<WorkPath>& paths, std:
     if (!op_full) {
       lonlat_p = lonlat_s;
       xy = lonlat_s;
-      if (!transform_array(op_proj.get(), PJ_FWD, xy)) return what + " cannot be projected to the target CRS";
+      if (!transform_array(op_fast.get(), PJ_FWD, xy)) return what + " cannot be projected to the target CRS";
       return {};
     }
     xy = lonlat_s;
@@ -838,7 +837,7 @@ std::string Auditor::Impl::transform_vertices(std::vector<WorkPath>& paths, std:
       return what + " cannot be transformed to the target CRS (" + transform.name + ")";
     }
     lonlat_p = xy;
-    if (!transform_array(op_proj.get(), PJ_INV, lonlat_p)) {
+    if (!transform_array(op_fast.get(), PJ_INV, lonlat_p)) {
       return what + " cannot be taken back to the target's geographic CRS";
     }
     return {};

@@ -1,10 +1,12 @@
 // gridtruth — the per-feature audit: ellipsoidal truth, grid measures and the error budget.
 //
-// Definitions (see DEVELOPERS.md "The error budget"), for a source geographic CRS S and a target projected CRS P:
-//   R  reference: geodesic measure on S's ellipsoid, lifted to ellipsoidal height h (if any)
-//   E_S geodesic measure on S's ellipsoid (no height)
-//   E_P geodesic measure on P's ellipsoid of the vertices after the datum transformation S → P's base CRS
-//   D  densified grid measure: the vertices joined by the projected images of the geodesics on P's ellipsoid
+// Definitions (see DEVELOPERS.md "The error budget"), for a source CRS S (geographic, or the base geographic CRS
+// of a projected source) and a target projected CRS P, with edges meaning what EdgeSpec says (geodesics by
+// default):
+//   R  reference: the measure on S's ellipsoid of the feature with its true edges, lifted to ellipsoidal height h
+//   E_S the same on S's ellipsoid (no height)
+//   E_P the same on P's ellipsoid, of the vertices (and edges) after the datum transformation S → P's base CRS
+//   D  densified grid measure: the vertices joined by the projected images of the true edges
 //   G  grid measure: the projected vertices joined by straight lines in P's plane
 // and every part is signed ("+" means the grid overstates):
 //   from_edges = G − D, from_scale = D − E_P, from_datum = E_P − E_S, from_height = E_S − R,
