@@ -583,6 +583,17 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
     return d;
   };
 
+  // The vertex of a line, inside the map and clear of its edges, whose pixel row is nearest `row`; p.size() if none.
+  auto label_vertex = [&](const Path& p, double row) {
+    std::size_t best = p.size();
+    double best_d = std::numeric_limits<double>::infinity();
+    for (std::size_t m = 0; m < p.size(); ++m) {
+      const double lx = X(p[m].x), ly = Y(p[m].y);
+      if (!(lx > ox + 30 && lx < ox + used_w - 90 && ly > map_y + 12 && ly < map_y + map_h - 24)) continue;
+      if (std::fabs(ly - row) < best_d) best_d = std::fabs(ly - row), best = m;
+    }
+    return best;
+  };
   const double step = class_step();
   const std::vector<Worst> worst_list = worst_sorted();
   const double right_x = 880, right_w = 330;
@@ -633,43 +644,21 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
       const auto iso = trace(g, 1 + level_ppm / 1e6);
       o << "<g class=\"isoline\" data-scale-ppm=\"" << fmt(level_ppm, decimals_for(fstep)) << "\" stroke=\"#8a8a8a\" "
         << "stroke-width=\"0.8\">";
-      bool labelled = false;
       for (const Path& p : iso) {
         const std::string d = path_d(p, false);
         if (d.empty()) continue;
         o << "<path d=\"" << d << "\"/>";
-        if (!labelled) {
-          // Label at the middle of the longest visible stretch: simply the middle vertex inside the map.
-          for (std::size_t m = p.size() / 2; m < p.size(); ++m) {
-            const double lx = X(p[m].x), ly = Y(p[m].y);
-            if (lx > ox + 30 && lx < ox + used_w - 30 && ly > map_y + 12 && ly < map_y + map_h - 12) {
-              o << "<text x=\"" << px(lx + 3) << "\" y=\"" << px(ly) << "\" fill=\"#555555\" stroke=\"none\" "
-                << "font-size=\"10\">" << signed_ppm(level_ppm) << "</text>";
-              labelled = true;
-              break;
-            }
-          }
-        }
+        // Labelled near the top of the map, where features are least likely to cover the label.
+        const std::size_t m = label_vertex(p, map_y + 16);
+        if (m < p.size())
+          o << "<text x=\"" << px(X(p[m].x) + 3) << "\" y=\"" << px(Y(p[m].y)) << "\" fill=\"#444444\" "
+            << "stroke=\"#fbfbf8\" stroke-width=\"2.5\" paint-order=\"stroke\" font-size=\"10\">"
+            << signed_ppm(level_ppm) << "</text>";
       }
       o << "</g>\n";
     }
   }
-  o << "<g id=\"true-scale\" stroke=\"#000000\" stroke-width=\"2.4\" stroke-dasharray=\"10 4 2 4\">";
-  bool true_label = false;
-  for (const Path& p : trace(g, 1.0)) {
-    const std::string d = path_d(p, false);
-    if (d.empty()) continue;
-    o << "<path d=\"" << d << "\"/>";
-    for (std::size_t m = p.size() / 3; !true_label && m < p.size(); ++m) {
-      const double lx = X(p[m].x), ly = Y(p[m].y);
-      if (lx > ox + 40 && lx < ox + used_w - 90 && ly > map_y + 20 && ly < map_y + map_h - 20) {
-        o << "<text x=\"" << px(lx + 5) << "\" y=\"" << px(ly) << "\" stroke=\"#ffffff\" stroke-width=\"3\" "
-          << "paint-order=\"stroke\" stroke-dasharray=\"none\" fill=\"#000000\" font-weight=\"bold\">scale = 1</text>";
-        true_label = true;
-      }
-    }
-  }
-  o << "</g>\n</g>\n";
+  o << "</g>\n";  // scale-field
   // Area of use of the target CRS, its geographic box densified and projected.
   if (auditor.target().area_of_use) {
     const AreaOfUse& a = *auditor.target().area_of_use;
@@ -745,7 +734,24 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
             << "stroke=\"#222222\" stroke-width=\"1.2\"><title>" << xml_escape(d->id) << "</title></circle>\n";
     }
   }
-  o << "</g>\n</g>\n</g>\n";  // features, clip, map
+  o << "</g>\n";  // features
+  // The line of true scale over the features, so that no feature hides it.
+  o << "<g id=\"true-scale\" fill=\"none\" stroke=\"#000000\" stroke-width=\"2.4\" stroke-dasharray=\"10 4 2 4\">";
+  bool true_label = false;
+  for (const Path& p : trace(g, 1.0)) {
+    const std::string d = path_d(p, false);
+    if (d.empty()) continue;
+    o << "<path d=\"" << d << "\"/>";
+    const std::size_t m = true_label ? p.size() : label_vertex(p, map_y + 34);
+    if (m < p.size()) {
+      o << "<text x=\"" << px(X(p[m].x) + 5) << "\" y=\"" << px(Y(p[m].y)) << "\" stroke=\"#ffffff\" "
+        << "stroke-width=\"3\" paint-order=\"stroke\" stroke-dasharray=\"none\" fill=\"#000000\" "
+        << "font-weight=\"bold\">scale = 1</text>";
+      true_label = true;
+    }
+  }
+  o << "</g>\n";
+  o << "</g>\n</g>\n";  // clip, map
   o << "<rect x=\"" << px(ox) << "\" y=\"" << px(map_y) << "\" width=\"" << px(used_w) << "\" height=\"" << px(map_h)
     << "\" fill=\"none\" stroke=\"#222222\" stroke-width=\"1\"/>\n";
 
