@@ -4,7 +4,7 @@
 set -euo pipefail
 packages=(
   build-essential cmake ninja-build pkg-config
-  libgeographiclib-dev libproj-dev proj-data proj-bin libtbb-dev
+  libgeographiclib-dev libproj-dev proj-data proj-bin libtbb-dev libgdal-dev
   libboost-dev libfmt-dev nlohmann-json3-dev libcli11-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen

@@ -6,8 +6,10 @@
 #include <fstream>
 #include <iostream>
 #include <memory>
+#include <optional>
 #include <sstream>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "audit_summary.hpp"
@@ -15,6 +17,10 @@
 #include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+
+#ifdef GRIDTRUTH_WITH_GDAL
+#include "raster_gdal.hpp"
+#endif
 
 namespace gridtruth::cli {
 
@@ -129,28 +135,57 @@ void read_counts(const std::string& path, ClassAreaAccumulator& acc) {
   }
 }
 
+#ifdef GRIDTRUTH_WITH_GDAL
+constexpr bool with_gdal = true;
+#else
+constexpr bool with_gdal = false;
+#endif
+
 int run_cells(const CellsArgs& a) {
   GridSpec spec;
   std::optional<std::uint32_t> nodata;
   std::string format = a.classes_format;
   try {
-    spec.crs = a.grid_crs;
-    std::tie(spec.origin_x, spec.origin_y) = number_pair(a.origin, "--origin");
-    std::tie(spec.pixel_x, spec.pixel_y) = number_pair(a.pixel, "--pixel");
-    const auto size = number_pair(a.size, "--size");
-    spec.cols = whole_number(size.first, "--size");
-    spec.rows = whole_number(size.second, "--size");
     if (a.block == 0) throw BadOption("--block must be at least 1");
     if (a.class_type != "uint8" && a.class_type != "uint16") throw BadOption("--class-type must be uint8 or uint16");
     if (a.nodata > 65535) throw BadOption("--nodata must be a class code from 0 to 65535");
-    if (a.nodata >= 0) nodata = static_cast<std::uint32_t>(a.nodata);
     if (format == "auto" && !a.classes.empty()) {
       const auto dot = a.classes.rfind('.');
       const std::string ext = dot == std::string::npos ? "" : a.classes.substr(dot + 1);
-      format = ext == "csv" ? "counts" : "raw";
+      format = ext == "csv" ? "counts" : ext == "raw" || ext == "bin" || !with_gdal ? "raw" : "gdal";
     }
-    if (format != "auto" && format != "counts" && format != "raw")
-      throw BadOption("--classes-format must be auto, raw or counts");
+    if (format != "auto" && format != "counts" && format != "raw" && format != "gdal")
+      throw BadOption("--classes-format must be auto, gdal, raw or counts");
+    if (format == "gdal" && !with_gdal)
+      throw BadOption("this gridtruth was built without GDAL: give the classes as raw codes or counts");
+  } catch (const BadOption& e) {
+    return fail(e.what());
+  }
+#ifdef GRIDTRUTH_WITH_GDAL
+  if (format == "gdal") {
+    try {
+      const RasterHeader header = read_raster_header(a.classes);
+      spec = header.grid;
+      nodata = header.nodata;
+    } catch (const Error& e) {
+      return fail(e.what());
+    }
+  }
+#endif
+  try {
+    // Grid options given override what a raster file says about itself.
+    if (!a.grid_crs.empty()) spec.crs = a.grid_crs;
+    if (!a.origin.empty()) std::tie(spec.origin_x, spec.origin_y) = number_pair(a.origin, "--origin");
+    if (!a.pixel.empty()) std::tie(spec.pixel_x, spec.pixel_y) = number_pair(a.pixel, "--pixel");
+    if (!a.size.empty()) {
+      const auto size = number_pair(a.size, "--size");
+      spec.cols = whole_number(size.first, "--size");
+      spec.rows = whole_number(size.second, "--size");
+    }
+    if (a.nodata >= 0) nodata = static_cast<std::uint32_t>(a.nodata);
+    if (format != "gdal" && (a.grid_crs.empty() || a.origin.empty() || a.pixel.empty() || a.size.empty()))
+      throw BadOption("--grid-crs, --origin, --pixel and --size are required (unless --classes is a GDAL raster)");
+    if (spec.crs.empty()) throw BadOption(a.classes + " names no CRS: give --grid-crs");
   } catch (const BadOption& e) {
     return fail(e.what());
   }
@@ -175,6 +210,9 @@ int run_cells(const CellsArgs& a) {
     ClassAreaAccumulator acc(*grid, nodata);
     try {
       if (format == "counts") read_counts(a.classes, acc);
+#ifdef GRIDTRUTH_WITH_GDAL
+      else if (format == "gdal") add_raster_classes(a.classes, spec, acc);
+#endif
       else read_raw(a.classes, *grid, a.class_type == "uint16", acc);
     } catch (const Error& e) {
       return fail(e.what());
@@ -210,20 +248,21 @@ int run_cells(const CellsArgs& a) {
 Command set_up(CLI::App& tool) {
   auto args = std::make_shared<CellsArgs>();
   CLI::App* app = tool.add_subcommand("cells", "true ellipsoidal areas of a raster's cells, and class areas");
-  app->add_option("--grid-crs", args->grid_crs, "CRS of the raster: geographic (degrees) or projected")->required();
+  app->add_option("--grid-crs", args->grid_crs,
+                  "CRS of the raster: geographic (degrees) or projected (a GDAL raster's own when not given)");
   app->add_option("--origin", args->origin,
                   "X,Y of the outer corner of the first cell (row 0, column 0): longitude,latitude in degrees or "
-                  "easting,northing in the CRS's unit")
-      ->required();
-  app->add_option("--pixel", args->pixel, "DX,DY: cell width and height (DY negative for rows running south)")
-      ->required();
-  app->add_option("--size", args->size, "COLS,ROWS of the raster")->required();
+                  "easting,northing in the CRS's unit");
+  app->add_option("--pixel", args->pixel, "DX,DY: cell width and height (DY negative for rows running south)");
+  app->add_option("--size", args->size, "COLS,ROWS of the raster");
   app->add_option("--block", args->block, "projected grid: one record per block of N x N cells")
       ->capture_default_str();
   app->add_option("--out", args->out, "write the CSV to this file instead of standard output");
   app->add_option("--classes", args->classes,
-                  "class codes: a raw raster (row-major codes, nothing else) or a CSV of counts 'row,class,count'");
-  app->add_option("--classes-format", args->classes_format, "raw, counts, or auto (.csv means counts)")
+                  "class codes: a raster GDAL reads (GeoTIFF, ...; its grid stands in for the grid options), a raw "
+                  "raster (row-major codes, nothing else) or a CSV of counts 'row,class,count'");
+  app->add_option("--classes-format", args->classes_format,
+                  "gdal, raw, counts, or auto (.csv: counts; .raw, .bin: raw; else gdal when built with GDAL)")
       ->capture_default_str();
   app->add_option("--class-type", args->class_type, "raw raster cell type: uint8 or uint16 (little-endian)")
       ->capture_default_str();

@@ -12,6 +12,7 @@
 #include <cstdlib>
 #include <fstream>
 #include <map>
+#include <optional>
 #include <random>
 #include <sstream>
 #include <string>
@@ -21,6 +22,11 @@
 #include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 #include "support.hpp"
+
+#ifdef GRIDTRUTH_WITH_GDAL
+#include <gdal.h>
+#include <ogr_srs_api.h>
+#endif
 
 namespace {
 
@@ -486,5 +492,79 @@ TEST_F(CellsCommand, Uint16CodesOnAnEqualAreaGrid) {
   EXPECT_EQ(rows[2][0], "301");
   EXPECT_NEAR(std::stod(rows[2][2]) / 250000, 1, 1e-9);
 }
+
+#ifdef GRIDTRUTH_WITH_GDAL
+/// Writes a one-band GeoTIFF through GDAL: north-up geotransform, EPSG CRS, optional nodata.
+void write_geotiff(const std::string& path, GDALDataType type, int epsg, const double geotransform[6], int cols,
+                   int rows, const std::vector<double>& values, std::optional<double> nodata) {
+  GDALAllRegister();
+  GDALDriverH driver = GDALGetDriverByName("GTiff");
+  ASSERT_NE(driver, nullptr);
+  GDALDatasetH ds = GDALCreate(driver, path.c_str(), cols, rows, 1, type, nullptr);
+  ASSERT_NE(ds, nullptr);
+  double gt[6];
+  std::copy(geotransform, geotransform + 6, gt);
+  GDALSetGeoTransform(ds, gt);
+  OGRSpatialReferenceH srs = OSRNewSpatialReference(nullptr);
+  OSRImportFromEPSG(srs, epsg);
+  GDALSetSpatialRef(ds, srs);
+  OSRDestroySpatialReference(srs);
+  GDALRasterBandH band = GDALGetRasterBand(ds, 1);
+  if (nodata) GDALSetRasterNoDataValue(band, *nodata);
+  std::vector<double> copy = values;
+  ASSERT_EQ(GDALRasterIO(band, GF_Write, 0, 0, cols, rows, copy.data(), cols, rows, GDT_Float64, 0, 0), CE_None);
+  GDALClose(ds);
+}
+
+// A GeoTIFF carries its own grid (geotransform, CRS, size) and nodata: the raster of
+// ClassAreas.GeographicRasterAgainstHandSums gives the same hand sums (Snyder 1987 eq. 3-12) with no grid options.
+TEST_F(CellsCommand, GeoTiffClassesTakeTheFilesGrid) {
+  const std::string tif = temp_path("classes.tif");
+  const double gt[6] = {10, 1, 0, 2, 0, -1};
+  write_geotiff(tif, GDT_Byte, 4326, gt, 4, 3, {1, 1, 2, 7, 2, 2, 2, 7, 1, 9, 9, 9}, 9.0);
+  const CommandRun r = run("cells --classes " + tif);
+  ASSERT_EQ(r.status, 0) << r.err;
+  const auto rows = csv_rows(r.out);
+  ASSERT_EQ(rows.size(), 4u) << r.out;
+  const double a12 = t::quadrangle_area_m2(t::wgs84, 1, 2, 1);
+  const double a01 = t::quadrangle_area_m2(t::wgs84, 0, 1, 1);
+  const double a10s = t::quadrangle_area_m2(t::wgs84, -1, 0, 1);
+  EXPECT_EQ(rows[1][0], "1");
+  EXPECT_EQ(rows[1][1], "3");
+  EXPECT_NEAR(std::stod(rows[1][2]), 2 * a12 + a10s, 0.01);
+  EXPECT_EQ(rows[2][0], "2");
+  EXPECT_NEAR(std::stod(rows[2][2]), a12 + 3 * a01, 0.01);
+  EXPECT_EQ(rows[3][0], "7");
+  EXPECT_NEAR(std::stod(rows[3][2]), a12 + a01, 0.01);
+  // A grid option overrides the file: --nodata 2 leaves class 2 out and counts the 9s.
+  const CommandRun r2 = run("cells --nodata 2 --classes " + tif);
+  ASSERT_EQ(r2.status, 0) << r2.err;
+  EXPECT_THAT(r2.out, ::testing::HasSubstr("\n9,3,"));
+  EXPECT_THAT(r2.out, ::testing::Not(::testing::HasSubstr("\n2,")));
+  std::remove(tif.c_str());
+}
+
+// A UInt16 GeoTIFF in an equal-area CRS (EPSG:6933): true = naive (equal-area guarantee, common practice); a Float32
+// raster holds no class codes and is refused with status 2.
+TEST_F(CellsCommand, GeoTiffProjectedAndRefusals) {
+  const std::string tif = temp_path("ease.tif"), flt = temp_path("float.tif");
+  const double gt[6] = {0, 500, 0, 3000000, 0, -500};
+  write_geotiff(tif, GDT_UInt16, 6933, gt, 2, 2, {300, 300, 301, 300}, std::nullopt);
+  const CommandRun r = run("cells --classes " + tif);
+  ASSERT_EQ(r.status, 0) << r.err;
+  const auto rows = csv_rows(r.out);
+  ASSERT_EQ(rows.size(), 3u) << r.out;
+  EXPECT_EQ(rows[1][0], "300");
+  EXPECT_NEAR(std::stod(rows[1][2]) / 750000, 1, 1e-9);
+  EXPECT_NEAR(std::stod(rows[2][2]) / 250000, 1, 1e-9);
+  write_geotiff(flt, GDT_Float32, 6933, gt, 2, 2, {1.5, 2, 3, 4}, std::nullopt);
+  const CommandRun bad = run("cells --classes " + flt);
+  EXPECT_EQ(bad.status, 2);
+  EXPECT_THAT(bad.err, ::testing::HasSubstr("Float32"));
+  EXPECT_EQ(run("cells --classes " + temp_path("missing.tif")).status, 2);
+  std::remove(tif.c_str());
+  std::remove(flt.c_str());
+}
+#endif
 
 }  // namespace
