@@ -627,7 +627,14 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
     << xml_escape(title) << "</text>\n";
 
   // --- map ---
-  o << "<g id=\"map\">\n<rect x=\"" << px(ox) << "\" y=\"" << px(map_y) << "\" width=\"" << px(used_w)
+  // The map's transform, for readers of the SVG who want CRS coordinates back: easting = data-easting-origin +
+  // (x − data-x-origin) / data-pixels-per-unit, northing = data-northing-origin − (y − data-y-origin) / ... .
+  char transform[256];
+  std::snprintf(transform, sizeof transform,
+                " data-x-origin=\"%.17g\" data-y-origin=\"%.17g\" data-easting-origin=\"%.17g\" "
+                "data-northing-origin=\"%.17g\" data-pixels-per-unit=\"%.17g\"",
+                ox, map_y, v.x0, v.y1, s);
+  o << "<g id=\"map\"" << transform << ">\n<rect x=\"" << px(ox) << "\" y=\"" << px(map_y) << "\" width=\"" << px(used_w)
     << "\" height=\"" << px(map_h) << "\" fill=\"#fbfbf8\" stroke=\"none\"/>\n<g clip-path=\"url(#map-clip)\">\n";
   // Scale field isolines.
   const Grid g = field_grid();

@@ -274,6 +274,44 @@ TEST_F(ReportTest, SvgIsWellFormedRendersAndShowsItsParts) {
   EXPECT_EQ(svg.find("@import"), std::string::npos);
   EXPECT_EQ(svg.find("@font-face"), std::string::npos);
 
+  // The drawn line of true scale, read back from the SVG's path data through the map's stated transform, lies
+  // about 180 km either side of the central meridian (common practice, as above; 3 km is half a percent of the
+  // 720-pixel map's 600 km, i.e. ~4 pixels, covering the rounding of pixel coordinates to 0.1).
+  {
+    auto attribute = [&](const std::string& name) {
+      const auto at = svg.find(name + "=\"");
+      EXPECT_NE(at, std::string::npos) << name;
+      return std::strtod(svg.c_str() + at + name.size() + 2, nullptr);
+    };
+    const double x0 = attribute("data-x-origin"), e0 = attribute("data-easting-origin");
+    const double ppu = attribute("data-pixels-per-unit");
+    ASSERT_GT(ppu, 0);
+    const auto begin = svg.find("<g id=\"true-scale\"");
+    ASSERT_NE(begin, std::string::npos);
+    const auto end = svg.find("</g>", begin);
+    std::size_t west = 0, east = 0;
+    for (auto d = svg.find(" d=\"", begin); d < end; d = svg.find(" d=\"", d + 1)) {
+      const auto close = svg.find('"', d + 4);
+      std::string data = svg.substr(d + 4, close - d - 4);
+      for (char& c : data)
+        if (c == 'M' || c == 'L' || c == 'Z') c = ' ';
+      std::istringstream in(data);
+      for (double x, y; in >> x >> y;) {
+        const double easting = e0 + (x - x0) / ppu;
+        EXPECT_NEAR(std::fabs(easting - 500000), 180400, 3000) << "pixel " << x << " " << y;
+        (easting < 500000 ? west : east) += 1;
+      }
+    }
+    EXPECT_GT(west, 2u);
+    EXPECT_GT(east, 2u);
+  }
+
+  // The HTML page holds the very same picture.
+  std::ostringstream html;
+  report.write_html(html);
+  EXPECT_NE(html.str().find(svg.substr(svg.find("<svg"))), std::string::npos);
+  EXPECT_THAT(html.str(), HasSubstr("<table id=\"counts\">"));
+
   ASSERT_EQ(shell("rsvg-convert " + shell_quote(path("report.svg")) + " -o " + shell_quote(path("report.png"))), 0);
   const auto picture = decode_png(slurp(path("report.png")));
   ASSERT_TRUE(picture.has_value());
