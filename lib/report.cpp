@@ -597,7 +597,7 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
   const double step = class_step();
   const std::vector<Worst> worst_list = worst_sorted();
   const double right_x = 880, right_w = 330;
-  const double legend_y = 60, legend_h = 9 * 20 + 30;
+  const double legend_y = 60, legend_h = 9 * 20 + 44;
   const double hist_y = legend_y + legend_h + 40, hist_h = 170;
   const double bars_y = hist_y + hist_h + 80;
   const double bar_h = 16;
@@ -619,6 +619,9 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
        "stroke=\"#ffffff\" stroke-width=\"1.2\"/></pattern>\n"
     << "<pattern id=\"pat-dots\" width=\"5\" height=\"5\" patternUnits=\"userSpaceOnUse\"><circle cx=\"2.5\" "
        "cy=\"2.5\" r=\"1\" fill=\"#3a2a10\"/></pattern>\n"
+    // Overstating classes carry a sparse hatch as well as their colour, so the sign survives greyscale printing.
+    << "<pattern id=\"pat-over\" width=\"5\" height=\"5\" patternUnits=\"userSpaceOnUse\"><path d=\"M0 5L5 0\" "
+       "stroke=\"#000000\" stroke-opacity=\"0.45\" stroke-width=\"0.7\"/></pattern>\n"
     << "<pattern id=\"pat-cross\" width=\"6\" height=\"6\" patternUnits=\"userSpaceOnUse\"><path d=\"M0 3H6M3 0V6\" "
        "stroke=\"#6b6457\" stroke-width=\"0.8\"/></pattern>\n"
     << "</defs>\n";
@@ -726,8 +729,12 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
         o << "<circle cx=\"" << px(X(d->parts[0][0].x)) << "\" cy=\"" << px(Y(d->parts[0][0].y)) << "\" r=\"1.5\" fill=\""
           << colour << "\" stroke=\"#222222\" stroke-width=\"0.5\"><title>" << tip << "</title></circle>\n";
       else
+      {
         o << "<path d=\"" << dd << "\" fill=\"" << colour << "\" fill-rule=\"evenodd\" stroke=\"#222222\" "
           << "stroke-width=\"0.7\"><title>" << tip << "</title></path>\n";
+        if (class_of(d->ppm, step) > 4)
+          o << "<path d=\"" << dd << "\" fill=\"url(#pat-over)\" fill-rule=\"evenodd\" stroke=\"none\"/>\n";
+      }
     } else if (is_linear(d->type)) {
       std::string dd;
       for (const Path& p : d->parts) dd += path_d(p, false);
@@ -811,11 +818,15 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
     else if (k == 0) label = "\u2264 " + signed_ppm(-3.5 * step) + " (grid understates)";
     else label = signed_ppm(c - 0.5 * step) + " to " + signed_ppm(c + 0.5 * step);
     o << "<rect x=\"" << px(right_x) << "\" y=\"" << px(y) << "\" width=\"28\" height=\"16\" fill=\""
-      << class_colours[k] << "\" stroke=\"#222222\" stroke-width=\"0.6\"/><text x=\"" << px(right_x + 36) << "\" y=\""
-      << px(y + 12) << "\">" << label << "</text>\n";
+      << class_colours[k] << "\" stroke=\"#222222\" stroke-width=\"0.6\"/>";
+    if (k > 4)
+      o << "<rect x=\"" << px(right_x) << "\" y=\"" << px(y) << "\" width=\"28\" height=\"16\" fill=\"url(#pat-over)\"/>";
+    o << "<text x=\"" << px(right_x + 36) << "\" y=\"" << px(y + 12) << "\">" << label << "</text>\n";
   }
   o << "<text x=\"" << px(right_x) << "\" y=\"" << px(legend_y + 12 + 9 * 20 + 10) << "\" font-size=\"10\" "
-    << "fill=\"#444444\">area ppm for polygons, length ppm for lines</text>\n</g>\n";
+    << "fill=\"#444444\">area ppm for polygons, length ppm for lines</text>\n<text x=\"" << px(right_x) << "\" y=\""
+    << px(legend_y + 12 + 9 * 20 + 23) << "\" font-size=\"10\" fill=\"#444444\">hatched: the grid overstates "
+    << "(kept apart from blue in greyscale)</text>\n</g>\n";
 
   // --- histogram ---
   o << "<g id=\"histogram\">\n<text x=\"" << px(right_x) << "\" y=\"" << px(hist_y) << "\" font-weight=\"bold\">"

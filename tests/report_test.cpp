@@ -365,6 +365,15 @@ TEST_F(ReportTest, ColoursFollowTheSignAndTheWorstFeaturesAreDrawnOnTop) {
   auto channel = [](const std::string& hex, int k) { return std::stoi(hex.substr(1 + 2 * k, 2), nullptr, 16); };
   EXPECT_GT(channel(over, 0), channel(over, 2)) << over;
   EXPECT_GT(channel(under, 2), channel(under, 0)) << under;
+  // Greyscale: only the overstating feature carries the hatch overlay (right after its own path).
+  auto hatched = [&](const std::string& id) {
+    const auto own_end = s.find("</path>", s.find("<title>" + id + ":"));
+    const auto next_title = s.find("<title>", own_end);
+    return s.substr(own_end, next_title == std::string::npos ? std::string::npos : next_title - own_end)
+               .find("fill=\"url(#pat-over)\"") != std::string::npos;
+  };
+  EXPECT_TRUE(hatched("over"));
+  EXPECT_FALSE(hatched("under"));
   // The worse feature (|ppm| 800 against 300) is drawn later, so on top where they would overlap.
   EXPECT_GT(s.find("<title>over:"), s.find("<title>under:"));
 }
