@@ -36,7 +36,10 @@ struct GridSpec {
 
 /// Cells aggregated over a rectangle of rows [row_start, row_end) × columns [col_start, col_end).
 struct CellRecord {
-  std::size_t row_start = 0, row_end = 0, col_start = 0, col_end = 0;
+  std::size_t row_start = 0;  ///< first row of the record (0 = the row at origin_y)
+  std::size_t row_end = 0;    ///< one past the last row
+  std::size_t col_start = 0;  ///< first column (0 = the column at origin_x)
+  std::size_t col_end = 0;    ///< one past the last column
   std::uint64_t cells = 0;     ///< (row_end − row_start)·(col_end − col_start)
   double true_area_m2 = 0;     ///< the sum of the cells' ellipsoidal areas
   double nominal_area_m2 = 0;  ///< cells × CellGrid::nominal_cell_area_m2()
@@ -74,15 +77,21 @@ struct CellRecord {
 /// throw Error(invalid_argument) for rows or columns out of range and never otherwise.
 class CellGrid {
  public:
+  /// Resolves the grid's CRS and checks the geometry; throws Error as the class comment says.
   explicit CellGrid(const GridSpec& spec);
   ~CellGrid();
+  /// Moves; the moved-from grid may only be destroyed or assigned to.
   CellGrid(CellGrid&&) noexcept;
+  /// Moves; the moved-from grid may only be destroyed or assigned to.
   CellGrid& operator=(CellGrid&&) noexcept;
   CellGrid(const CellGrid&) = delete;
   CellGrid& operator=(const CellGrid&) = delete;
 
+  /// The grid as given.
   const GridSpec& spec() const noexcept;
+  /// What the grid's CRS resolved to.
   const CrsInfo& crs() const noexcept;
+  /// True for a geographic grid (cells bounded by meridians and parallels), false for a projected one.
   bool is_geographic() const noexcept;
   /// The nominal area of one cell in m² (see the class comment for the geographic convention).
   double nominal_cell_area_m2() const noexcept;
@@ -116,8 +125,8 @@ double quadrangle_area_m2(const Ellipsoid& ellipsoid, double lat1_deg, double la
 
 /// Area per class code.
 struct ClassArea {
-  std::uint32_t code = 0;
-  std::uint64_t cells = 0;
+  std::uint32_t code = 0;      ///< the class code
+  std::uint64_t cells = 0;     ///< how many cells carry it
   double true_area_m2 = 0;     ///< the sum of the true areas of the class's cells
   double naive_area_m2 = 0;    ///< cells × nominal cell area (the pixel-count area)
   double difference_m2 = 0;    ///< naive − true ("+" means the pixel count overstates)
