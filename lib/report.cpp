@@ -254,7 +254,7 @@ struct ReportCollector::Impl {
 
   double field_value(double x, double y) const {
     const PointFactors f = auditor.factors(x, y);
-    return metric() == Metric::area ? f.areal_scale : std::sqrt(f.tissot_a * f.tissot_b);
+    return metric() == Metric::area ? f.areal_scale : f.parallel_scale;
   }
 
   struct Grid {
@@ -263,6 +263,17 @@ struct ReportCollector::Impl {
     std::vector<double> value;  // n × n, row j (y) major
     double at(int i, int j) const { return value[static_cast<std::size_t>(j) * n + i]; }
   };
+
+  /// A field that varies by less than this (0.1 ppm) is flat: an equal-area projection's areal scale, which the
+  /// factors reproduce to about 1e-9; contouring it would trace rounding noise.
+  static constexpr double flat_field = 1e-7;
+
+  static std::pair<double, double> field_range(const Grid& g) {
+    double lo = std::numeric_limits<double>::infinity(), hi = -lo;
+    for (const double val : g.value)
+      if (std::isfinite(val)) lo = std::min(lo, val), hi = std::max(hi, val);
+    return {lo, hi};
+  }
 
   Grid field_grid() const {
     Grid g;
@@ -293,10 +304,33 @@ struct ReportCollector::Impl {
       const long cell = key / 2;
       const int i = static_cast<int>(cell % n), j = static_cast<int>(cell / n);
       const bool vertical = key % 2 == 1;
-      const double va = g.at(i, j), vb = vertical ? g.at(i, j + 1) : g.at(i + 1, j);
-      const double t = std::clamp((level - va) / (vb - va), 0.0, 1.0);
-      const double x = g.x0 + (i + (vertical ? 0 : t)) * g.dx, y = g.y0 + (j + (vertical ? t : 0)) * g.dy;
-      return auditor.project(x, y);
+      auto point = [&](double t) {
+        return Coord{g.x0 + (i + (vertical ? 0 : t)) * g.dx, g.y0 + (j + (vertical ? t : 0)) * g.dy};
+      };
+      // The crossing on the edge: linear interpolation between the samples, refined by regula falsi with the
+      // Illinois modification (Dowell & Jarratt 1971) on the field itself, so a curved field (a conic's scale near
+      // a standard parallel) is contoured where it is, not where a straight line between samples puts it.
+      double ta = 0, tb = 1, fa = g.at(i, j) - level, fb = (vertical ? g.at(i, j + 1) : g.at(i + 1, j)) - level;
+      double t = std::clamp(fa / (fa - fb), 0.0, 1.0);
+      int side = 0;
+      for (int iteration = 0; iteration < 8 && fa != fb; ++iteration) {
+        const Coord c = point(t);
+        const double ft = field_value(c.x, c.y) - level;
+        if (!std::isfinite(ft) || ft == 0) break;
+        if ((ft < 0) == (fa < 0)) {
+          ta = t, fa = ft;
+          if (side == -1) fb /= 2;
+          side = -1;
+        } else {
+          tb = t, fb = ft;
+          if (side == 1) fa /= 2;
+          side = 1;
+        }
+        t = std::clamp(ta + fa * (tb - ta) / (fa - fb), 0.0, 1.0);
+        if (tb - ta < 1e-9) break;
+      }
+      const Coord c = point(t);
+      return auditor.project(c.x, c.y);
     };
     std::vector<std::pair<long, long>> segments;
     for (int j = 0; j + 1 < n; ++j) {
@@ -543,7 +577,7 @@ void ReportCollector::Impl::write_caption_lines(std::vector<std::string>& lines)
   lines.push_back(totals);
   lines.push_back(std::string("Colours: error in ppm of the area (polygons) or length (lines); + means the grid "
                               "overstates. Isolines: ") +
-                  (metric() == Metric::area ? "areal scale a\u00b7b" : "linear scale \u221a(a\u00b7b)") +
+                  (metric() == Metric::area ? "areal scale a\u00b7b" : "linear scale k along the parallels") +
                   " as (scale \u2212 1) in ppm; heavy dashed line: true scale (scale = 1).");
   lines.push_back("Date: " + (options.date.empty() ? today_utc() : options.date));
   lines.push_back(options.caution);
@@ -641,11 +675,10 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
     << "\" height=\"" << px(map_h) << "\" fill=\"#fbfbf8\" stroke=\"none\"/>\n<g clip-path=\"url(#map-clip)\">\n";
   // Scale field isolines.
   const Grid g = field_grid();
-  double fmin = std::numeric_limits<double>::infinity(), fmax = -fmin;
-  for (const double val : g.value)
-    if (std::isfinite(val)) fmin = std::min(fmin, val), fmax = std::max(fmax, val);
+  const auto [fmin, fmax] = field_range(g);
+  const bool flat = fmax >= fmin && fmax - fmin < flat_field;
   o << "<g id=\"scale-field\" fill=\"none\">\n";
-  if (fmax >= fmin) {
+  if (fmax >= fmin && !flat) {
     const double lo = (fmin - 1) * 1e6, hi = (fmax - 1) * 1e6;
     const double fstep = nice_step(std::max((hi - lo) / 8, 1e-3));
     for (double k = std::ceil(lo / fstep); k * fstep <= hi && k - std::ceil(lo / fstep) < 40; k += 1) {
@@ -752,7 +785,7 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
   // The line of true scale over the features, so that no feature hides it.
   o << "<g id=\"true-scale\" fill=\"none\" stroke=\"#000000\" stroke-width=\"2.4\" stroke-dasharray=\"10 4 2 4\">";
   bool true_label = false;
-  for (const Path& p : trace(g, 1.0)) {
+  for (const Path& p : flat ? std::vector<Path>{} : trace(g, 1.0)) {
     const std::string d = path_d(p, false);
     if (d.empty()) continue;
     o << "<path d=\"" << d << "\"/>";
@@ -766,6 +799,11 @@ void ReportCollector::Impl::write_svg(std::ostream& o, bool standalone) const {
   }
   o << "</g>\n";
   o << "</g>\n</g>\n";  // clip, map
+  if (flat)
+    o << "<text id=\"flat-field\" x=\"" << px(ox + 8) << "\" y=\"" << px(map_y + 18) << "\" font-size=\"11\" "
+      << "stroke=\"#ffffff\" stroke-width=\"3\" paint-order=\"stroke\">"
+      << (metric() == Metric::area ? "Areal" : "Linear") << " scale " << fmt(0.5 * (fmin + fmax), 7)
+      << " everywhere within 0.1 ppm: no isolines</text>\n";
   o << "<rect x=\"" << px(ox) << "\" y=\"" << px(map_y) << "\" width=\"" << px(used_w) << "\" height=\"" << px(map_h)
     << "\" fill=\"none\" stroke=\"#222222\" stroke-width=\"1\"/>\n";
 
@@ -974,7 +1012,12 @@ void ReportCollector::add_unread(std::string_view) {
 }
 void ReportCollector::write_svg(std::ostream& out) const { impl_->write_svg(out, true); }
 Metric ReportCollector::field_metric() const { return impl_->metric(); }
-std::vector<Path> ReportCollector::isolines(double scale) const { return impl_->trace(impl_->field_grid(), scale); }
+std::vector<Path> ReportCollector::isolines(double scale) const {
+  const Impl::Grid g = impl_->field_grid();
+  const auto [lo, hi] = Impl::field_range(g);
+  if (!(hi - lo >= Impl::flat_field)) return {};
+  return impl_->trace(g, scale);
+}
 std::size_t ReportCollector::features() const noexcept { return impl_->read; }
 std::size_t ReportCollector::drawn() const noexcept { return impl_->drawn.size(); }
 std::size_t ReportCollector::aggregated() const noexcept { return impl_->aggregated; }

@@ -3,6 +3,7 @@
 // (librsvg2-bin) for rendering; the HTML page with headless Chromium when it is installed.
 #include "gridtruth/report.hpp"
 
+#include <GeographicLib/AlbersEqualArea.hpp>
 #include <GeographicLib/TransverseMercator.hpp>
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -238,6 +239,51 @@ TEST_F(ReportTest, TrueScaleIsolineOfUtmLiesAbout180KmEitherSideOfTheCentralMeri
     EXPECT_GT(lat_max, 47.5);
     // A level that the field never reaches has no isoline.
     EXPECT_TRUE(report.isolines(1.5).empty());
+  }
+}
+
+// An equal-area projection has areal scale 1 everywhere (Snyder 1987, p. 98, "Albers Equal-Area Conic"): there is
+// no line of true areal scale to draw, only rounding noise; its linear scale does vary, and is 1 on the standard
+// parallels (29.5° N and 45.5° N for CONUS Albers, EPSG:5070).
+TEST_F(ReportTest, EqualAreaFieldIsFlatForAreaButNotForLength) {
+  AuditOptions o;
+  o.target_crs = "EPSG:5070";
+  const Auditor auditor(o);
+  for (const Metric metric : {Metric::area, Metric::length}) {
+    ReportOptions options;
+    options.field_metric = metric;
+    ReportCollector report(auditor, options);
+    const Geometry line = Geometry::line_string({{-100, 27}, {-99, 48}});
+    report.add("meridian", line, auditor.audit(line));
+    std::ostringstream svg;
+    report.write_svg(svg);
+    if (metric == Metric::area) {
+      EXPECT_TRUE(report.isolines(1.0).empty());
+      EXPECT_THAT(svg.str(), HasSubstr("id=\"flat-field\""));
+    } else {
+      const auto lines = report.isolines(1.0);
+      EXPECT_GE(lines.size(), 2u);  // one along each standard parallel
+      // Cross-check with GeographicLib's own Albers (Karney): EPSG:5070 is GRS 1980, standard parallels 29.5° N and
+      // 45.5° N, origin 23° N 96° W, no false easting or northing (EPSG dataset, from memory; the scale k = 1 found
+      // by GeographicLib at every contour point confirms it).
+      const GeographicLib::AlbersEqualArea albers(6378137, 1 / 298.257222101, 29.5, 45.5, 1);
+      double x_origin, y_origin, gamma, k;
+      albers.Forward(-96, 23, -96, x_origin, y_origin, gamma, k);
+      std::size_t south = 0, north = 0;
+      for (const Path& p : lines) {
+        for (const Coord& c : p) {
+          double lat, lon;
+          albers.Reverse(-96, c.x, c.y + y_origin, lat, lon, gamma, k);
+          EXPECT_NEAR(k, 1.0, 1e-6) << "at E " << c.x << " N " << c.y;
+          if (std::fabs(lat - 29.5) < 0.05) ++south;
+          else if (std::fabs(lat - 45.5) < 0.05) ++north;
+          else ADD_FAILURE() << "true scale at latitude " << lat;
+        }
+      }
+      EXPECT_GT(south, 2u);
+      EXPECT_GT(north, 2u);
+      EXPECT_EQ(svg.str().find("id=\"flat-field\""), std::string::npos);
+    }
   }
 }
 

@@ -26,9 +26,10 @@ namespace gridtruth {
 /// How a report is drawn. Units are in the member names.
 struct ReportOptions {
   std::string input_name;  ///< what the caption calls the input (a file name), may be empty
-  /// The scale field drawn under the features: Metric::area → areal scale a·b, Metric::length → linear scale
-  /// √(a·b) (equal to the scale in every direction for a conformal projection). Absent: area when any polygon was
-  /// collected, else length.
+  /// The scale field drawn under the features: Metric::area → areal scale a·b, Metric::length → linear scale k
+  /// along the parallels (the scale factor quoted for cylindrical and conic projections, Snyder 1987; equal to the
+  /// scale in every direction for a conformal projection). Absent: area when any polygon was collected, else
+  /// length.
   std::optional<Metric> field_metric;
   std::string date;  ///< the date in the caption; empty: today's date (UTC, YYYY-MM-DD)
   // Units of the caption's totals (the figures themselves are in ppm and in the CRS's unit).
@@ -77,8 +78,11 @@ class ReportCollector {
   /// The isolines where the scale field equals `scale` (1: the lines of true scale), as polylines in the target
   /// CRS's plane (easting, northing in its linear unit), traced by marching squares over the sample grid of the
   /// field (the grid covers the features' extent in the source CRS with a margin of a quarter of each span, at
-  /// least 0.05 units). Each crossing is interpolated linearly between two samples and then projected.
-  /// Empty when nothing was collected or the level does not occur.
+  /// least 0.05 units). Each crossing is found on its grid edge by regula falsi on the field itself (to ~1e-9 of
+  /// the edge) and then projected, so the line lies where the scale is `scale`, not where a straight line between
+  /// two samples would put it.
+  /// Empty when nothing was collected, the level does not occur, or the field is flat (varies by less than 0.1 ppm
+  /// over the extent, as an equal-area projection's areal scale does: its isolines would trace rounding noise).
   std::vector<Path> isolines(double scale) const;
 
   std::size_t features() const noexcept;  ///< features added (read or not)
