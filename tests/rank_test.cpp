@@ -194,6 +194,53 @@ TEST(Tailor, HeightsRaiseTheFittedScaleFactor) {
   EXPECT_LT(ground.audit.worst_ppm, 5.0);
 }
 
+// Common practice: along a strip running obliquely (here south-west to north-east) an oblique Mercator with its
+// central line along the strip keeps lengths better than any transverse Mercator.
+TEST(Tailor, ObliqueMercatorBeatsTransverseMercatorOnADiagonalStrip) {
+  std::vector<Geometry> features;
+  for (int i = 0; i <= 20; ++i) {
+    const double t = i / 20.0;
+    const double lon = -96 + 5 * t, lat = 40 + 4 * t;
+    for (double offset : {-0.1, 0.0, 0.1}) {
+      features.push_back(Geometry::line_string({{lon - offset, lat + offset}, {lon - offset + 0.01, lat + offset + 0.008}}));
+    }
+  }
+  TailorOptions o;
+  o.rank.metric = RankMetric::length;
+  o.compare_registry = false;
+  const TailorResult omerc = tailor_crs(features, {}, ProjectionFamily::oblique_mercator, o);
+  const TailorResult tm = tailor_crs(features, {}, ProjectionFamily::transverse_mercator, o);
+  ASSERT_EQ(omerc.audit.unmeasured, 0u);
+  ASSERT_EQ(tm.audit.unmeasured, 0u);
+  EXPECT_LT(omerc.audit.worst_ppm, tm.audit.worst_ppm / 5);
+  ASSERT_EQ(omerc.parameters.size(), 4u);
+  EXPECT_EQ(omerc.parameters[2].name, "alpha");
+  EXPECT_GT(omerc.parameters[2].value, 20.0);  // the central line runs north-east, like the strip
+  EXPECT_LT(omerc.parameters[2].value, 70.0);
+}
+
+TEST(Rank, RegistryCandidatesAreThoseWhoseAreaOfUseHoldsTheExtent) {
+  const GeoExtent e = extent_of(parcels(-93.8, 41.0, 3, 3, 0.5, 0.2));  // inside 96°W–90°W: UTM zone 15N
+  RankOptions o;
+  const auto candidates = candidate_crs(e, o);
+  std::set<std::string> ids;
+  for (const CandidateCrs& c : candidates) {
+    ids.insert(c.crs);
+    if (!c.generated) {
+      ASSERT_TRUE(c.inside_area_of_use.has_value()) << c.crs;
+      EXPECT_TRUE(*c.inside_area_of_use) << c.crs;
+    }
+  }
+  EXPECT_TRUE(ids.count("EPSG:32615"));   // WGS 84 / UTM zone 15N
+  EXPECT_TRUE(ids.count("EPSG:26915"));   // NAD83 / UTM zone 15N
+  EXPECT_FALSE(ids.count("EPSG:32632"));  // UTM zone 32N: Europe
+  EXPECT_FALSE(ids.count("EPSG:32614"));  // UTM zone 14N ends at 96°W
+  EXPECT_TRUE(ids.count("generated:utm15n"));
+  EXPECT_TRUE(ids.count("EPSG:6933"));
+  EXPECT_TRUE(std::is_sorted(candidates.begin(), candidates.end(),
+                             [](const CandidateCrs& a, const CandidateCrs& b) { return a.crs < b.crs; }));
+}
+
 TEST(Rank, SameRankingOnEveryRunAndThreadCount) {
   auto features = parcels(8.0, 46.0, 8, 5, 0.25, 0.1);
   RankOptions o;
