@@ -35,9 +35,13 @@ RankMetric parse_rank_metric(std::string_view name);
 /// The geographic extent of features, degrees. west_deg > east_deg when it crosses the antimeridian (the extent
 /// is the shortest longitude interval holding every vertex).
 struct GeoExtent {
-  double west_deg = 0, south_deg = 0, east_deg = 0, north_deg = 0;
+  double west_deg = 0;   ///< westernmost longitude, [-180, 180)
+  double south_deg = 0;  ///< southernmost latitude
+  double east_deg = 0;   ///< easternmost longitude, [-180, 180); < west_deg across the antimeridian
+  double north_deg = 0;  ///< northernmost latitude
   double centre_lon_deg = 0;  ///< middle of the longitude interval, in [-180, 180)
   double centre_lat_deg = 0;  ///< middle of the latitude interval
+  /// True when the extent crosses ±180° (west_deg > east_deg).
   bool crosses_antimeridian() const noexcept { return west_deg > east_deg; }
   /// Width in degrees of longitude (antimeridian handled).
   double width_deg() const noexcept { return crosses_antimeridian() ? east_deg + 360 - west_deg : east_deg - west_deg; }
@@ -61,7 +65,7 @@ struct CandidateCrs {
 /// every thread count.
 struct RankOptions {
   std::string source_crs = "EPSG:4326";  ///< geographic CRS of the features (longitude, latitude)
-  RankMetric metric = RankMetric::area;
+  RankMetric metric = RankMetric::area;  ///< what the ranking minimises
   std::vector<Tolerance> tolerances;     ///< for pass_share; empty → pass_share is NaN
   bool registry = true;                  ///< include the database's CRSs
   bool generated = true;                 ///< include CRSs generated for the data and the world baselines
@@ -69,16 +73,16 @@ struct RankOptions {
   /// Above this many features the leaders are audited on a sample of this size (the features with the smallest
   /// splitmix64 hash of (seed, position)), and the best `full_reaudit` of them again on every feature.
   std::size_t sample_features = 20000;
-  std::size_t full_reaudit = 3;
-  std::uint64_t seed = 20240601;
+  std::size_t full_reaudit = 3;          ///< leaders re-audited on every feature after a sampled audit
+  std::uint64_t seed = 20240601;         ///< seed of the sample (same seed, same sample)
   std::size_t screen_points = 256;       ///< vertices at which the screening evaluates distortion factors
   unsigned threads = 0;                  ///< threads of the exact audits; 0 = every hardware thread
 };
 
 /// The exact audit of one candidate.
 struct RankedCrs {
-  CandidateCrs candidate;
-  RankMetric metric = RankMetric::area;
+  CandidateCrs candidate;                ///< the CRS audited
+  RankMetric metric = RankMetric::area;  ///< the metric of the figures below
   double worst_ppm = 0;      ///< largest |metric| over the audited features (ppm or µrad, see RankMetric)
   double p95_ppm = 0;        ///< 95th percentile (nearest rank) of |metric|
   double pass_share = 0;     ///< share of features with a verdict that pass; NaN without tolerances
@@ -90,7 +94,7 @@ struct RankedCrs {
 
 /// The outcome of rank_crs().
 struct RankReport {
-  GeoExtent extent;
+  GeoExtent extent;                ///< the features' extent
   std::size_t candidates = 0;      ///< candidates screened
   std::size_t features = 0;        ///< valid features given
   std::size_t sample = 0;          ///< features in the sample (== features when no sample was drawn)

@@ -36,13 +36,13 @@ struct TailorOptions {
 /// One optimised parameter, in the unit of its PROJ name (degrees, or 1 for k_0).
 struct TailoredParameter {
   std::string name;  ///< PROJ's name: "lat_1", "lon_0", "k_0", "alpha", ...
-  double value = 0;
+  double value = 0;  ///< the optimised value
 };
 
 /// The outcome of tailor_crs().
 struct TailorResult {
-  ProjectionFamily family = ProjectionFamily::transverse_mercator;
-  std::vector<TailoredParameter> parameters;
+  ProjectionFamily family = ProjectionFamily::transverse_mercator;  ///< the family fitted
+  std::vector<TailoredParameter> parameters;  ///< the optimised parameters, in the order of ProjectionFamily's list
   std::string proj_string;     ///< the tailored CRS as a PROJ string ("+type=crs", on the source ellipsoid)
   std::string wkt2;            ///< the same as WKT2 (ISO 19162:2019)
   double start_objective_ppm = 0;  ///< screened worst |metric| at the rule-of-thumb start
