@@ -240,6 +240,12 @@ int run_audit(const AuditArgs& args) {
     progress.finish();
     if (!writer) return fail_run(input_name + ": " + e.what());
     out->flush();
+    // The GeoJSON keeps the features before the fault, as the CSV does (its writer closes the collection); a
+    // picture of part of the input would mislead, so none is left.
+    if (report_file.is_open()) {
+      report_file.close();
+      std::remove(args.report.c_str());
+    }
     return fail_run(input_name + ": " + e.what() + " (" + std::to_string(summary.read()) +
                     " feature rows were written before it)");
   }

@@ -566,6 +566,18 @@ TEST_F(ReportCliTest, ReportWritesSvgOrHtmlAndRejectsOtherNames) {
   EXPECT_THAT(html, HasSubstr("area (ha)"));
   EXPECT_EQ(html.find("<script"), std::string::npos);
 
+  // A container that breaks after its first feature: the GeoJSON keeps that feature, no picture is left.
+  spit(path("broken.geojson"),
+       std::string(R"({"type":"FeatureCollection","features":[{"type":"Feature","id":"a","properties":{},)") +
+           R"("geometry":{"type":"Point","coordinates":[-93,44]}},{"type":"Feature",)" + "\n]]]");
+  EXPECT_EQ(audit({path("broken.geojson"), "--crs", "EPSG:32615", "--report", path("broken.svg"), "--geojson",
+                   path("broken.out.geojson"), "--out", path("broken.csv")}),
+            2);
+  EXPECT_FALSE(std::ifstream(path("broken.svg")).good());
+  const auto partial = nlohmann::json::parse(slurp(path("broken.out.geojson")));
+  ASSERT_EQ(partial.at("features").size(), 1u);
+  EXPECT_EQ(partial.at("features")[0].at("id"), "a");
+
   EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.png")}), 2);
   EXPECT_THAT(slurp(path("stderr")), HasSubstr("--report must name a .svg or .html file"));
   EXPECT_EQ(slurp(path("stdout")), "");
