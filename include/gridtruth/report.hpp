@@ -43,6 +43,7 @@ struct ReportOptions {
   std::size_t histogram_sample = 50000;      ///< ppm values kept for the histogram (a uniform sample beyond)
   std::size_t worst_count = 10;              ///< features in the stacked bars of budget parts
   int field_samples = 48;                    ///< sample points of the scale field per side of the extent (≥ 4)
+  /// The caution line printed in the caption.
   std::string caution =
       "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
 };
@@ -56,9 +57,13 @@ struct ReportOptions {
 /// clone of the auditor, so the caller's auditor stays free for other use.
 class ReportCollector {
  public:
+  /// Clones `auditor` (Error(no_transformation) in the rare case PROJ cannot copy its objects) and samples the
+  /// target's scale field when the report is drawn.
   ReportCollector(const Auditor& auditor, ReportOptions options = {});
   ~ReportCollector();
+  /// Moves; the moved-from collector may only be destroyed or assigned to.
   ReportCollector(ReportCollector&&) noexcept;
+  /// Moves; the moved-from collector may only be destroyed or assigned to.
   ReportCollector& operator=(ReportCollector&&) noexcept;
   ReportCollector(const ReportCollector&) = delete;
   ReportCollector& operator=(const ReportCollector&) = delete;
@@ -100,6 +105,7 @@ class ReportCollector {
 /// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings.
 class ResultGeoJsonWriter {
  public:
+  /// Writes to `out`, which must outlive the writer.
   explicit ResultGeoJsonWriter(std::ostream& out);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
