@@ -1,11 +1,12 @@
 #!/usr/bin/env bash
 # Reruns gridtruth's benchmarks and prints one table of ratios, every number measured in this run.
 #   bash bench/run.sh            (about 5 minutes on 2 cores)
-#   FEATURES=20000 RSS_SIZES="10000 100000 1000000" bash bench/run.sh
+#   FEATURES=20000 RSS_SIZES="10000 100000 1000000" RANK_FEATURES=100000 bash bench/run.sh
 set -euo pipefail
 cd "$(dirname "$0")/.."
 features=${FEATURES:-20000}
 rss_sizes=${RSS_SIZES:-"10000 100000 1000000"}
+rank_features=${RANK_FEATURES:-100000}
 bash cmake/install-deps.sh >/dev/null
 extra=()
 for p in python3-pyproj python3-shapely time; do
@@ -16,7 +17,7 @@ if [ ${#extra[@]} -gt 0 ]; then
   DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq --no-install-recommends "${extra[@]}" >/dev/null
 fi
 cmake --preset release >/dev/null
-cmake --build --preset release --target bench_audit make_features audit_only gridtruth_cli >/dev/null
+cmake --build --preset release --target bench_audit make_features audit_only rank_vs_audit gridtruth_cli >/dev/null
 bin=build/release
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
@@ -42,6 +43,12 @@ for n in $rss_sizes; do
   rm -f "$work/r.geojson"
 done
 
+echo "== ranking every candidate CRS of $rank_features features" >&2
+rank_line=$("$bin/bench/rank_vs_audit" "$rank_features" 2 | grep -i 'ratio' | tail -n 1)
+
+echo "| measure | value | target |"
+echo "|---|---|---|"
+echo "| rank every candidate CRS / one plain audit, $rank_features features, 2 threads | $rank_line | ≤ 10 |"
 /usr/bin/python3 - "$work/kernel.json" "$t1" "$t2" "$lib" "$py" "${rss[@]}" <<'PY'
 import json, sys
 kernel = json.load(open(sys.argv[1]))["benchmarks"]
@@ -53,8 +60,6 @@ for b in kernel:
     per[(name, int(arg))] = b["per_vertex"] * 1e6  # µs per vertex
     if "densified_per_vertex" in b:
         dens[int(arg)] = b["densified_per_vertex"]
-print("| measure | value | target |")
-print("|---|---|---|")
 for edge, target in ((10, "≤ 2.0"), (1000, "≤ 2.0"), (100000, "≤ 5")):
     ratio = per[("BM_Audit", edge)] / per[("BM_Truth", edge)]
     print(f"| full audit / bare PolygonArea, per vertex, {edge} m edges | {ratio:.2f} "
