@@ -223,12 +223,12 @@ int run_audit(const AuditArgs& args) {
         }
         summary.add(feature, result);
         if (report) report->add(feature.id, *feature.geometry, result);
-        if (geojson) geojson->write_feature(feature.id, *feature.geometry, result);
+        if (geojson) geojson->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
       } else {
         writer->write_unread_row(feature.id, feature.error, feature.declared_type);
         summary.add_unread(feature);
         if (report) report->add_unread(feature.id);
-        if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type);
+        if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
       }
       progress.update(summary.read());
     });

@@ -10,6 +10,8 @@
 #include <string>
 #include <vector>
 
+#include <nlohmann/json.hpp>
+
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "io_detail.hpp"
@@ -133,6 +135,11 @@ class CsvReader final : public FormatReader {
       }
       f.height_m = h;
     }
+    nlohmann::ordered_json properties = nlohmann::ordered_json::object();
+    for (std::size_t k = 0; k < header_.size() && k < r.fields.size(); ++k) {
+      if (k != wkt_column_) properties[header_[k]] = r.fields[k];
+    }
+    f.properties_json = properties.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
     f.geometry = std::move(g);
     return f;
   }
@@ -146,6 +153,7 @@ class CsvReader final : public FormatReader {
       throw Error(ErrorCode::parse, "CSV: empty input (a header line naming the columns is needed)");
     if (!h.error.empty()) throw Error(ErrorCode::parse, "CSV header (line 1): " + h.error);
     columns_ = h.fields.size();
+    header_ = h.fields;
     const std::string want = lower(trim(options_.wkt_field));
     const std::string want_id = lower(trim(options_.id_field));
     const std::string want_height = lower(trim(options_.height_field));
@@ -178,6 +186,7 @@ class CsvReader final : public FormatReader {
   std::size_t wkt_column_ = 0;
   std::optional<std::size_t> id_column_;
   std::optional<std::size_t> height_column_;
+  std::vector<std::string> header_;
 };
 
 }  // namespace

@@ -148,6 +148,9 @@ void feature_from_json(const json& j, const ReaderOptions& options, InputFeature
     if (!t->is_string()) problem("\"type\" is " + json_type_name(*t) + ", not a string");
     const auto name = t->get<std::string>();
     if (name == "Feature") {
+      if (const auto props = j.find("properties"); props != j.end() && props->is_object()) {
+        f.properties_json = props->dump();
+      }
       if (const auto id = j.find("id"); id != j.end()) f.id = id_text(*id);
       if (f.id.empty() && !options.id_field.empty()) {
         const auto props = j.find("properties");

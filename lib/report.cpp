@@ -1167,12 +1167,22 @@ void ResultGeoJsonWriter::finish() {
   *out_ << "\n]}\n";
 }
 
-void ResultGeoJsonWriter::write_properties(std::string_view id, const std::string& csv_row) {
+void ResultGeoJsonWriter::write_properties(std::string_view id, const std::string& csv_row,
+                                           std::string_view input_properties_json) {
   static const std::vector<std::string> text_columns = {"id", "geometry_type", "status", "message", "verdict"};
   std::vector<std::string> names = ResultCsvWriter::columns();
   if (combined_factor_) names.push_back("combined_factor");
   const std::vector<std::string> fields = split_csv_record(csv_row);
   nlohmann::ordered_json props = nlohmann::ordered_json::object();
+  if (!input_properties_json.empty()) {
+    const auto input = nlohmann::ordered_json::parse(input_properties_json, nullptr, false);
+    if (input.is_object()) {
+      for (const auto& [key, value] : input.items()) {
+        const bool clash = std::find(names.begin(), names.end(), key) != names.end();
+        props[clash ? "input_" + key : key] = value;
+      }
+    }
+  }
   for (std::size_t k = 0; k < names.size(); ++k) {
     const std::string cell = k < fields.size() ? fields[k] : std::string();
     if (std::find(text_columns.begin(), text_columns.end(), names[k]) != text_columns.end()) {
@@ -1195,23 +1205,24 @@ void ResultGeoJsonWriter::write_properties(std::string_view id, const std::strin
   first_ = false;
 }
 
-void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result) {
+void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
+                                        std::string_view input_properties_json) {
   std::ostringstream row;
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
   csv.write_row(id, result);
-  write_properties(id, row.str());
+  write_properties(id, row.str(), input_properties_json);
   write_geometry(*out_, geometry);
   *out_ << '}';
 }
 
 void ResultGeoJsonWriter::write_unread(std::string_view id, std::string_view message,
-                                       std::optional<GeometryType> type) {
+                                       std::optional<GeometryType> type, std::string_view input_properties_json) {
   std::ostringstream row;
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
   csv.write_unread_row(id, message, type);
-  write_properties(id, row.str());
+  write_properties(id, row.str(), input_properties_json);
   *out_ << "null}";
 }
 

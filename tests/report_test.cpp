@@ -543,6 +543,28 @@ TEST_F(ReportCliTest, GeojsonCarriesEveryCsvColumnAndTheCoordinatesAsRead) {
   // Numbers are numbers, verdicts are text.
   EXPECT_TRUE(features[0].at("properties").at("vertices").is_number());
   EXPECT_TRUE(features[0].at("properties").at("verdict").is_string());
+  // The input's own attributes come along (RFC 7946 section 3.2 "properties"), unchanged.
+  for (std::size_t k = 0; k < features.size(); ++k) {
+    const auto& in = input.at("features")[k];
+    for (const auto& [key, value] : in.at("properties").items()) {
+      EXPECT_EQ(features[k].at("properties").at(key), value) << key << " of feature " << k;
+    }
+  }
+}
+
+TEST_F(ReportCliTest, GeojsonFromCsvCarriesTheOtherColumnsAndRenamesClashes) {
+  // A CSV record's columns other than the WKT become string properties; a column named like a result column
+  // ("status") is kept as "input_status".
+  spit(path("in.csv"), "name,status,wkt\nKettle,draft,\"POINT (-93 45)\"\n");
+  EXPECT_EQ(audit({path("in.csv"), "--crs", "EPSG:32615", "--out", path("rows.csv"), "--geojson",
+                   path("out.geojson")}),
+            0)
+      << slurp(path("stderr"));
+  const auto props = nlohmann::json::parse(slurp(path("out.geojson"))).at("features")[0].at("properties");
+  EXPECT_EQ(props.at("name"), "Kettle");
+  EXPECT_EQ(props.at("input_status"), "draft");
+  EXPECT_EQ(props.at("status"), "ok");
+  EXPECT_FALSE(props.contains("wkt"));
 }
 
 TEST_F(ReportCliTest, ReportWritesSvgOrHtmlAndRejectsOtherNames) {

@@ -58,6 +58,9 @@ struct InputFeature {
   // A geometry without any coordinate (WKT EMPTY, GeoJSON "coordinates": []) comes back as an error
   // ("empty geometry: ...") with `declared_type` set: there is nothing to measure.
   std::optional<double> height_m;      ///< the height_field value, metres (absent without a height_field)
+  /// The feature's own attributes as the text of a JSON object: a GeoJSON Feature's "properties", or a CSV
+  /// record's other columns (as strings); empty when there are none or they could not be read.
+  std::string properties_json;
 };
 
 /// Pulls features one at a time from a stream or a file.

@@ -102,7 +102,9 @@ class ReportCollector {
 /// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as read
 /// (in the source CRS; a CRS other than longitude/latitude on WGS 84 is not what RFC 7946 expects, and GIS
 /// software then needs to be told the CRS), and as properties every column ResultCsvWriter writes for the
-/// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings.
+/// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings. The input's own
+/// attributes (InputFeature::properties_json) come first; one whose name is also a column's is kept as
+/// "input_<name>".
 class ResultGeoJsonWriter {
  public:
   /// Writes to `out`, which must outlive the writer.
@@ -110,9 +112,11 @@ class ResultGeoJsonWriter {
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// One audited feature.
-  void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result);
+  void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
+                     std::string_view input_properties_json = {});
   /// One feature that could not be read: null geometry, the columns of ResultCsvWriter::write_unread_row().
-  void write_unread(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt);
+  void write_unread(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt,
+                    std::string_view input_properties_json = {});
   /// Closes the collection (also written, if not yet, by the destructor).
   void finish();
   ~ResultGeoJsonWriter();
@@ -120,7 +124,7 @@ class ResultGeoJsonWriter {
   ResultGeoJsonWriter& operator=(const ResultGeoJsonWriter&) = delete;
 
  private:
-  void write_properties(std::string_view id, const std::string& csv_row);
+  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json);
   std::ostream* out_;
   bool combined_factor_ = false;
   bool first_ = true;
