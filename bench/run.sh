@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Reruns gridtruth's benchmarks and prints one table of ratios, every number measured in this run.
-#   bash bench/run.sh            (about 5 minutes on 2 cores)
+#   bash bench/run.sh            (about 3 minutes on 2 cores)
 #   FEATURES=20000 RSS_SIZES="10000 100000 1000000" RANK_FEATURES=100000 bash bench/run.sh
 set -euo pipefail
 cd "$(dirname "$0")/.."
