@@ -14,6 +14,7 @@
 #include <utility>
 
 #include "gridtruth/error.hpp"
+#include "compensated_sum.hpp"
 #include "proj_handles.hpp"
 
 namespace gridtruth {
@@ -42,19 +43,7 @@ using detail::Pj;
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr double kDegToRad = M_PI / 180;
 
-/// Neumaier's compensated sum.
-class CompensatedSum {
- public:
-  void add(double v) noexcept {
-    const double t = sum_ + v;
-    comp_ += std::fabs(sum_) >= std::fabs(v) ? (sum_ - t) + v : (v - t) + sum_;
-    sum_ = t;
-  }
-  double value() const noexcept { return sum_ + comp_; }
-
- private:
-  double sum_ = 0, comp_ = 0;
-};
+using detail::CompensatedSum;
 
 double cross(double ax, double ay, double bx, double by) noexcept { return ax * by - ay * bx; }
 

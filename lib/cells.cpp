@@ -10,6 +10,7 @@
 #include <string>
 
 #include "gridtruth/error.hpp"
+#include "compensated_sum.hpp"
 #include "proj_handles.hpp"
 
 namespace gridtruth {
@@ -20,19 +21,7 @@ using detail::Pj;
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr double kDegToRad = M_PI / 180;
 
-/// Neumaier's compensated sum.
-class CompensatedSum {
- public:
-  void add(double v) noexcept {
-    const double t = sum_ + v;
-    comp_ += std::fabs(sum_) >= std::fabs(v) ? (sum_ - t) + v : (v - t) + sum_;
-    sum_ = t;
-  }
-  double value() const noexcept { return sum_ + comp_; }
-
- private:
-  double sum_ = 0, comp_ = 0;
-};
+using detail::CompensatedSum;
 
 /// The ellipsoid's constants for q.
 struct Authalic {
