@@ -71,13 +71,23 @@ struct Budget {
   double grid = 0;       ///< G
   double error = 0;      ///< G − R
   double error_ppm = 0;  ///< 10⁶ (G − R) / R; NaN when R = 0
+  /// G − D in m or m²: straight chords between the projected vertices versus the projected images of the true
+  /// edges, the arc-to-chord effect.
   double from_edges = 0;
+  /// D − E_P in m or m²: the projection's scale distortion integrated along the edges (length) or over the area.
   double from_scale = 0;
+  /// E_P − E_S in m or m²: the same feature on the target's ellipsoid after the datum transformation minus on the
+  /// source's ellipsoid; 0 when the datums agree.
   double from_datum = 0;
+  /// E_S − R in m or m²: ellipsoid versus ground at the feature's height (AuditResult::height_m); 0 without a height.
   double from_height = 0;
   // Intermediate measures, for readers who want them: E_S, E_P, D.
+  /// E_S in m or m²: the measure with the true edges on the source CRS's ellipsoid (no height).
   double ellipsoid_source = 0;
+  /// E_P in m or m²: the measure on the target CRS's ellipsoid of the vertices after the datum transformation.
   double ellipsoid_target = 0;
+  /// D in m or m²: the vertices joined by the projected images of the true edges, densified until each piece lies
+  /// within AuditOptions::densify_tolerance_m of the true edge.
   double densified_grid = 0;
 };
 
@@ -95,6 +105,7 @@ struct Distortion {
   /// Meridian convergence γ in degrees: the angle from true north to grid north, positive clockwise (for a
   /// transverse Mercator, positive east of the central meridian in the northern hemisphere: γ ≈ Δλ·sin φ).
   double convergence_min_deg = 0;
+  /// Largest meridian convergence γ over the feature, degrees (sign as Distortion::convergence_min_deg).
   double convergence_max_deg = 0;
 };
 
@@ -109,13 +120,19 @@ struct PointFactors {
   double convergence_deg = 0;         ///< γ, as in Distortion
 };
 
+/// What happened to a feature: ok (measured), invalid (the input is wrong; AuditResult::message lists every
+/// problem) or unmeasurable (the input is fine but the grid measure is impossible or meaningless; the ellipsoidal
+/// values are still reported).
 enum class Status { ok, invalid, unmeasurable };
-std::string_view to_string(Status s) noexcept;  // "ok", "invalid", "unmeasurable"
+/// The status's name: "ok", "invalid" or "unmeasurable"; never throws.
+std::string_view to_string(Status s) noexcept;
 
 /// Everything gridtruth says about one feature.
 struct AuditResult {
+  /// ok, invalid or unmeasurable; see Status.
   Status status = Status::ok;
   std::string message;          ///< why invalid / unmeasurable, or a warning; empty when nothing to say
+  /// The feature's geometry type, as given.
   GeometryType type = GeometryType::point;
   std::size_t vertices = 0;     ///< vertices as given
   std::optional<Budget> length;  ///< lines: length; polygons: perimeter (all rings); absent for points
@@ -128,6 +145,7 @@ struct AuditResult {
   /// mean grid scale × R_G/(R_G + h). The mean grid scale is G/E_P of the length (perimeter for polygons), and
   /// √(areal scale) at a point feature. Absent when the feature could not be measured.
   std::optional<double> combined_factor;
+  /// pass or fail against AuditOptions::tolerances; none when no tolerance applies or the status is not ok.
   Verdict verdict = Verdict::none;
   std::vector<std::string> failed;  ///< the tolerances that failed, canonical text (empty on pass)
 };
@@ -158,13 +176,22 @@ struct TransformInfo {
 /// (relative error about 1e-9).
 class Auditor {
  public:
+  /// Resolves both CRSs and chooses the datum transformation (up to a few hundred milliseconds). Throws Error:
+  /// unknown_crs (a definition PROJ cannot make a CRS of); unsupported_crs (a source that is neither geographic nor
+  /// projected, a target that is not projected, straight edges in a CRS that is not projected); no_transformation
+  /// (PROJ offers no operation); invalid_argument (no target CRS, densify_tolerance_m not a positive number,
+  /// height_m outside [-10000, 100000] m, a negative area_of_use_margin_deg).
   explicit Auditor(const AuditOptions& options);
   ~Auditor();
+  /// Moves; the moved-from auditor may only be destroyed or assigned to.
   Auditor(Auditor&&) noexcept;
+  /// Moves; the moved-from auditor may only be destroyed or assigned to.
   Auditor& operator=(Auditor&&) noexcept;
   Auditor(const Auditor&) = delete;
   Auditor& operator=(const Auditor&) = delete;
 
+  /// An independent auditor with the same options and the same chosen transformation, for another thread; much
+  /// cheaper than construction. Throws Error(no_transformation) in the rare case PROJ cannot copy its objects.
   Auditor clone() const;
 
   /// Audits one feature. Never throws for a bad feature.
@@ -182,9 +209,13 @@ class Auditor {
   /// (easting, northing). NaN where the projection fails.
   Coord project(double lon_deg, double lat_deg) const;
 
+  /// The options the auditor was built with.
   const AuditOptions& options() const noexcept;
+  /// What the source CRS resolved to (geographic or projected).
   const CrsInfo& source() const noexcept;
+  /// What the target CRS resolved to (projected).
   const CrsInfo& target() const noexcept;
+  /// The datum transformation chosen between the source CRS and the target's base geographic CRS.
   const TransformInfo& transform() const noexcept;
   /// The edge model in force (AuditOptions::edges, or its default).
   const EdgeSpec& edges() const noexcept;
