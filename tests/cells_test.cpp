@@ -26,9 +26,11 @@
 #ifdef GRIDTRUTH_WITH_GDAL
 #include <gdal.h>
 #include <ogr_srs_api.h>
+#include "test_files.hpp"
 #endif
 
 namespace {
+using gridtruth::test_files::slurp;
 
 using namespace gridtruth;
 namespace t = gridtruth::test;
@@ -325,12 +327,6 @@ struct CommandRun {
   std::string out, err;
 };
 
-std::string slurp(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 std::string temp_path(const std::string& name) {
   return ::testing::TempDir() + "cells_test_" + std::to_string(::getpid()) + "_" + name;

@@ -17,8 +17,12 @@
 #include <sstream>
 #include <string>
 #include <vector>
+#include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::slurp;
+using gridtruth::test_files::spit;
+using gridtruth::test_files::shell_quote;
 
 using ::testing::HasSubstr;
 using ::testing::StartsWith;
@@ -41,26 +45,8 @@ const std::vector<std::string> contract_columns = {
     "angular_distortion_max_deg", "convergence_min_deg", "convergence_max_deg", "bearing_error_max_arcsec",
     "verdict"};
 
-std::string slurp(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
-void spit(const std::string& path, const std::string& text) {
-  std::ofstream out(path, std::ios::binary);
-  out << text;
-}
 
-std::string shell_quote(const std::string& s) {
-  std::string q = "'";
-  for (const char c : s) {
-    if (c == '\'') q += "'\\''";
-    else q += c;
-  }
-  return q + "'";
-}
 
 /// An RFC 4180 parser written for the tests (independent of the library's reader): records of fields.
 std::vector<std::vector<std::string>> parse_csv(const std::string& text) {

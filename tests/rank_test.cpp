@@ -18,8 +18,10 @@
 #include "gridtruth/error.hpp"
 #include "gridtruth/rank.hpp"
 #include "gridtruth/tailor.hpp"
+#include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::slurp;
 
 using namespace gridtruth;
 
@@ -325,12 +327,6 @@ struct CliRun {
   std::string out, err;
 };
 
-std::string slurp(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 CliRun run(const std::string& args, const std::string& dir) {
   const std::string cmd = cli_path() + " " + args + " > " + dir + "/out.txt 2> " + dir + "/err.txt";

@@ -25,8 +25,12 @@
 
 #include "gridtruth/audit.hpp"
 #include "gridtruth/io.hpp"
+#include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::slurp;
+using gridtruth::test_files::spit;
+using gridtruth::test_files::shell_quote;
 
 using namespace gridtruth;
 using ::testing::HasSubstr;
@@ -39,26 +43,8 @@ const std::string cli;
 const std::string source_dir = GRIDTRUTH_SOURCE_DIR;
 const std::string demo_geojson = source_dir + "/examples/data/habitat_survey.geojson";
 
-std::string slurp(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
-void spit(const std::string& path, const std::string& text) {
-  std::ofstream out(path, std::ios::binary);
-  out << text;
-}
 
-std::string shell_quote(const std::string& s) {
-  std::string q = "'";
-  for (const char c : s) {
-    if (c == '\'') q += "'\\''";
-    else q += c;
-  }
-  return q + "'";
-}
 
 int shell(const std::string& cmd) {
   const int raw = std::system(cmd.c_str());
