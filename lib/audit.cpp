@@ -6,6 +6,7 @@
 #include <GeographicLib/Rhumb.hpp>
 
 #include <algorithm>
+#include <array>
 #include <cctype>
 #include <cmath>
 #include <cstdio>
@@ -16,6 +17,7 @@
 #include "gridtruth/error.hpp"
 #include "compensated_sum.hpp"
 #include "proj_handles.hpp"
+#include "short_geodesics.hpp"
 
 namespace gridtruth {
 
@@ -125,6 +127,7 @@ struct EllipsoidWalk {
   std::vector<double> sin_azimuth, cos_azimuth;
   std::vector<double> edge_param;  // the edge's curve parameter range: metres along it (geodesic, rhumb) or the
                                    // chord length in the edge CRS's unit (straight edges)
+  std::vector<Coord> midpoint;     // each edge's midpoint (longitude, latitude) when the walk gives it; else empty
 };
 
 /// Accumulates edges (length, S12, prime-meridian crossings) and reduces the sum to a ring's signed area.
@@ -195,6 +198,34 @@ EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonl
     w.azimuth_deg[e] = edge.azi1;
     GeographicLib::Math::sincosd(edge.azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
     w.edge_param[e] = edge.s12;
+  }
+  w.length_m = sum.length();
+  if (closed && edges > 0) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
+  return w;
+}
+
+/// The same walk for geodesic edges by the closed-form short-edge method (short_geodesics.hpp), which also gives
+/// each edge's midpoint; nothing when the method does not apply to this path.
+std::optional<EllipsoidWalk> walk_short_edges(const detail::ShortGeodesics& method, const GeographicLib::Geodesic& geod,
+                                              const std::vector<Coord>& lonlat, bool closed,
+                                              std::vector<detail::ShortGeodesics::Edge>& scratch) {
+  if (!method.walk(lonlat, closed, scratch)) return std::nullopt;
+  EllipsoidWalk w;
+  const std::size_t edges = scratch.size();
+  w.azimuth_deg.resize(edges);
+  w.sin_azimuth.resize(edges);
+  w.cos_azimuth.resize(edges);
+  w.edge_param.resize(edges);
+  w.midpoint.resize(edges);
+  RingSum sum;
+  for (std::size_t e = 0; e < edges; ++e) {
+    const detail::ShortGeodesics::Edge& edge = scratch[e];
+    sum.add(edge.s12, closed ? edge.area12 : 0.0, lonlat[e].x, lonlat[(e + 1) % lonlat.size()].x);
+    w.sin_azimuth[e] = edge.sin_azi;
+    w.cos_azimuth[e] = edge.cos_azi;
+    w.azimuth_deg[e] = std::atan2(edge.sin_azi, edge.cos_azi) / kDegToRad;
+    w.edge_param[e] = edge.s12;
+    w.midpoint[e] = edge.midpoint;
   }
   w.length_m = sum.length();
   if (closed && edges > 0) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
@@ -427,8 +458,10 @@ class PathDensifier {
       : op_(op), tolerance_(tolerance_units), path_(path), path_index_(path_index), samples_(samples),
         densified_(densified), origin_(path.xy.front()) {}
 
-  /// Densifies edge e → j, the curve over parameters [0, length]; returns a failure message.
-  std::string edge(std::size_t e, std::size_t j, const Curve& curve, double length) {
+  /// Densifies edge e → j, the curve over parameters [0, length], whose point at length/2 is `mid_lonlat`,
+  /// projected to `mid_xy` (computed beforehand, all edges of a path at once); returns a failure message.
+  std::string edge(std::size_t e, std::size_t j, const Curve& curve, double length, const Coord& mid_lonlat,
+                   const Coord& mid_xy) {
     curve_ = &curve;
     const double edge_m = length;
     edge_index_ = e;
@@ -442,8 +475,10 @@ class PathDensifier {
     // The first midpoint joins the distortion samples only when the edge needs refining: along an edge that is
     // straight to within the tolerance the scale varies linearly to within ~(L/R)², so its extremes are at the
     // vertices.
-    Coord pm;
-    if (!point_at(0.5 * edge_m, pm, false)) return failure("cannot be projected to the target CRS");
+    first_midpoint_ = mid_lonlat;
+    ++densified_;
+    const Coord pm = finite(mid_lonlat) ? mid_xy : Coord{kNaN, kNaN};
+    if (!finite(pm)) return failure("cannot be projected to the target CRS");
     bool first = true;
     stack_.assign(1, Piece{0.0, edge_m, path_.xy[e], path_.xy[j], pm});
     while (!stack_.empty()) {
@@ -518,16 +553,12 @@ class PathDensifier {
     return std::fabs(cross(cx, cy, dx, dy)) / std::sqrt(c2);
   }
 
-  bool point_at(double s, Coord& xy, bool sample = true) {
+  bool point_at(double s, Coord& xy) {
     const Coord lonlat = (*curve_)(s);
     const PJ_COORD out = proj_trans(op_, PJ_FWD, proj_coord(lonlat.x, lonlat.y, 0, 0));
     xy = {out.xy.x, out.xy.y};
     if (!finite(lonlat)) xy = {kNaN, kNaN};
-    if (sample) {
-      samples_.push_back(lonlat);
-    } else {
-      first_midpoint_ = lonlat;
-    }
+    samples_.push_back(lonlat);
     ++densified_;
     return finite(xy);
   }
@@ -579,6 +610,8 @@ struct Auditor::Impl {
   GeographicLib::Geodesic geod_s{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   GeographicLib::Geodesic geod_p{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   std::optional<GeographicLib::Rhumb> rhumb_s, rhumb_p;
+  std::optional<detail::ShortGeodesics> short_s, short_p;  // the closed-form short-edge method, when enabled
+  mutable std::vector<detail::ShortGeodesics::Edge> short_scratch;
   double unit_m = 1;
   double tolerance_units = 0;  // densify tolerance in the target's linear unit
 
@@ -651,6 +684,10 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
   tolerance_units = o.densify_tolerance_m / unit_m;
   geod_s = GeographicLib::Geodesic(source.ellipsoid.a_m, source.ellipsoid.f);
   geod_p = GeographicLib::Geodesic(target.ellipsoid.a_m, target.ellipsoid.f);
+  if (o.closed_form_short_edges) {
+    short_s.emplace(source.ellipsoid.a_m, source.ellipsoid.f);
+    short_p.emplace(target.ellipsoid.a_m, target.ellipsoid.f);
+  }
 
   Pj tgt_h = detail::horizontal_crs(c, tgt.get());
   Pj src_h = detail::horizontal_crs(c, src.get());
@@ -750,6 +787,8 @@ std::unique_ptr<Auditor::Impl> Auditor::Impl::clone() const {
   copy->geod_p = geod_p;
   copy->rhumb_s = rhumb_s;
   copy->rhumb_p = rhumb_p;
+  copy->short_s = short_s;
+  copy->short_p = short_p;
   copy->unit_m = unit_m;
   copy->tolerance_units = tolerance_units;
   return copy;
@@ -892,32 +931,151 @@ std::vector<PointFactors> Auditor::Impl::factors_batch(const std::vector<Coord>&
   return out;
 }
 
+namespace {
+
+/// The statistics of Distortion as seven channels, each to be minimised (−) or maximised (+) over a feature.
+constexpr int kChannels = 7;
+std::array<double, kChannels> channels(const PointFactors& f) {
+  return {f.tissot_b, f.tissot_a, f.areal_scale, f.areal_scale, f.angular_distortion_deg, f.convergence_deg,
+          f.convergence_deg};
+}
+constexpr std::array<int, kChannels> kSense = {-1, +1, -1, +1, +1, -1, +1};
+/// Below these spreads a channel is flat to the accuracy of the central differences (relative 1e-9 for scales;
+/// 1e-7° for angles), and any sample gives its extreme.
+constexpr std::array<double, kChannels> kFlat = {1e-9, 1e-9, 1e-9, 1e-9, 1e-7, 1e-7, 1e-7};
+
+}  // namespace
+
 std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord>& samples) const {
-  // Every vertex and densified point when there are at most kMaxSamples; otherwise the points extreme in
-  // longitude and latitude plus evenly spaced others (the scale field varies smoothly over a feature).
+  // A small feature: every point. Otherwise the points are screened. The factors vary smoothly over a feature, so
+  // each statistic is modelled as linear in local east and north (least squares over the anchors: the points
+  // extreme in eight directions); ρ is the model's largest residual at the anchors. A point can hold an extreme
+  // only if its modelled value is within 4ρ of the modelled extreme; those candidates are evaluated exactly, and
+  // the statistics are the extremes over every point evaluated. A statistic whose anchors span less than its
+  // accuracy (kFlat) needs no candidates. When the candidates are more than half of the points, every point is
+  // evaluated. Large features (more than kMaxSamples points) are first thinned to the points extreme in
+  // longitude and latitude plus evenly spaced others.
   constexpr std::size_t kMaxSamples = 64;
-  std::vector<Coord> chosen;
+  constexpr std::size_t kEvery = 10;
+  std::vector<Coord> pool;
   if (samples.size() <= kMaxSamples) {
-    chosen = samples;
+    pool = samples;
   } else {
     auto by_x = std::minmax_element(samples.begin(), samples.end(),
                                     [](const Coord& a, const Coord& b) { return a.x < b.x; });
     auto by_y = std::minmax_element(samples.begin(), samples.end(),
                                     [](const Coord& a, const Coord& b) { return a.y < b.y; });
-    chosen = {*by_x.first, *by_x.second, *by_y.first, *by_y.second};
-    const std::size_t rest = kMaxSamples - chosen.size();
-    for (std::size_t k = 0; k < rest; ++k) chosen.push_back(samples[k * samples.size() / rest]);
+    pool = {*by_x.first, *by_x.second, *by_y.first, *by_y.second};
+    const std::size_t rest = kMaxSamples - pool.size();
+    for (std::size_t k = 0; k < rest; ++k) pool.push_back(samples[k * samples.size() / rest]);
   }
-  Extremes scale_b, scale_a, areal, omega, conv;
-  for (const PointFactors& f : factors_batch(chosen)) {
-    scale_b.add(f.tissot_b);
-    scale_a.add(f.tissot_a);
-    areal.add(f.areal_scale);
-    omega.add(f.angular_distortion_deg);
-    conv.add(f.convergence_deg);
+  Extremes ext[kChannels];
+  auto take = [&](const std::vector<PointFactors>& fs) {
+    for (const PointFactors& f : fs) {
+      const auto v = channels(f);
+      for (int c = 0; c < kChannels; ++c) ext[c].add(v[c]);
+    }
+  };
+  auto result = [&]() -> std::optional<Distortion> {
+    if (ext[0].empty()) return std::nullopt;
+    return Distortion{ext[0].lo, ext[1].hi, ext[2].lo, ext[3].hi, ext[4].hi, ext[5].lo, ext[6].hi};
+  };
+  const std::size_t n = pool.size();
+  if (n <= kEvery) {
+    take(factors_batch(pool));
+    return result();
   }
-  if (scale_b.empty()) return std::nullopt;
-  return Distortion{scale_b.lo, scale_a.hi, areal.lo, areal.hi, omega.hi, conv.lo, conv.hi};
+  // Local coordinates (degrees of arc east and north of the first point).
+  const Coord o = pool.front();
+  const double coslat = std::cos(o.y * kDegToRad);
+  std::vector<double> u(n), v(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    u[i] = GeographicLib::Math::AngDiff(o.x, pool[i].x) * coslat;
+    v[i] = pool[i].y - o.y;
+  }
+  std::vector<char> done(n, 0);
+  std::vector<std::size_t> anchors;
+  for (const auto& [du, dv] : {std::pair{1.0, 0.0}, {0.0, 1.0}, {1.0, 1.0}, {1.0, -1.0}}) {
+    std::size_t lo = 0, hi = 0;
+    for (std::size_t i = 1; i < n; ++i) {
+      const double d = du * u[i] + dv * v[i];
+      if (d < du * u[lo] + dv * v[lo]) lo = i;
+      if (d > du * u[hi] + dv * v[hi]) hi = i;
+    }
+    for (std::size_t i : {lo, hi}) {
+      if (!done[i]) anchors.push_back(i), done[i] = 1;
+    }
+  }
+  std::vector<Coord> at(anchors.size());
+  for (std::size_t k = 0; k < anchors.size(); ++k) at[k] = pool[anchors[k]];
+  const std::vector<PointFactors> af = factors_batch(at);
+  take(af);
+  // Least squares of each channel on (1, u, v) over the anchors (normal equations; the anchors span the feature).
+  double m[3][3] = {}, rhs[kChannels][3] = {};
+  bool finite_anchors = true;
+  for (std::size_t k = 0; k < anchors.size(); ++k) {
+    const double basis[3] = {1, u[anchors[k]], v[anchors[k]]};
+    const auto val = channels(af[k]);
+    for (int c = 0; c < kChannels; ++c) finite_anchors = finite_anchors && std::isfinite(val[c]);
+    for (int r = 0; r < 3; ++r) {
+      for (int c = 0; c < 3; ++c) m[r][c] += basis[r] * basis[c];
+      for (int ch = 0; ch < kChannels; ++ch) rhs[ch][r] += basis[r] * val[ch];
+    }
+  }
+  const double det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) -
+                     m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0]) +
+                     m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+  const double scale = m[1][1] + m[2][2];
+  if (!finite_anchors || anchors.size() < 3 || !(std::fabs(det) > 1e-12 * scale * scale * m[0][0])) {
+    take(factors_batch(pool));  // degenerate (e.g. a straight line of points) or not projectable: every point
+    return result();
+  }
+  auto solve = [&](const double b[3], double x[3]) {  // Cramer's rule on the 3 × 3 normal equations
+    for (int col = 0; col < 3; ++col) {
+      double a[3][3];
+      for (int r = 0; r < 3; ++r) {
+        for (int c = 0; c < 3; ++c) a[r][c] = c == col ? b[r] : m[r][c];
+      }
+      x[col] = (a[0][0] * (a[1][1] * a[2][2] - a[1][2] * a[2][1]) - a[0][1] * (a[1][0] * a[2][2] - a[1][2] * a[2][0]) +
+                a[0][2] * (a[1][0] * a[2][1] - a[1][1] * a[2][0])) / det;
+    }
+  };
+  std::vector<char> candidate(n, 0);
+  std::size_t candidates = 0;
+  for (int ch = 0; ch < kChannels; ++ch) {
+    double coef[3];
+    solve(rhs[ch], coef);
+    double rho = 0, lo = std::numeric_limits<double>::infinity(), hi = -lo;
+    for (std::size_t k = 0; k < anchors.size(); ++k) {
+      const double val = channels(af[k])[ch];
+      rho = std::max(rho, std::fabs(val - (coef[0] + coef[1] * u[anchors[k]] + coef[2] * v[anchors[k]])));
+      lo = std::min(lo, val);
+      hi = std::max(hi, val);
+    }
+    const double flat = kFlat[ch] * (ch < 4 ? std::max(1.0, std::fabs(hi)) : 1.0);
+    if (hi - lo + 4 * rho <= flat) continue;  // flat to its accuracy: the anchors give its extreme
+    double best = kSense[ch] * -std::numeric_limits<double>::infinity();
+    std::vector<double> model(n);
+    for (std::size_t i = 0; i < n; ++i) {
+      model[i] = coef[0] + coef[1] * u[i] + coef[2] * v[i];
+      best = kSense[ch] > 0 ? std::max(best, model[i]) : std::min(best, model[i]);
+    }
+    for (std::size_t i = 0; i < n; ++i) {
+      if (!done[i] && !candidate[i] && kSense[ch] * (best - model[i]) <= 4 * rho) candidate[i] = 1, ++candidates;
+    }
+  }
+  std::vector<Coord> rest;
+  if (2 * (candidates + anchors.size()) > n) {
+    for (std::size_t i = 0; i < n; ++i) {
+      if (!done[i]) rest.push_back(pool[i]);
+    }
+  } else {
+    for (std::size_t i = 0; i < n; ++i) {
+      if (candidate[i]) rest.push_back(pool[i]);
+    }
+  }
+  take(factors_batch(rest));
+  return result();
 }
 
 std::string Auditor::Impl::area_of_use_check(const std::vector<WorkPath>& paths, const std::vector<Coord>& points,
@@ -1062,7 +1220,9 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   for (std::size_t i = 0; i < paths.size(); ++i) {
     const WorkPath& path = paths[i];
     if (edges.model == EdgeModel::geodesic) {
-      walk_s[i] = walk_on_ellipsoid(geod_s, path.lonlat_s, path.closed());
+      std::optional<EllipsoidWalk> quick =
+          short_s ? walk_short_edges(*short_s, geod_s, path.lonlat_s, path.closed(), short_scratch) : std::nullopt;
+      walk_s[i] = quick ? std::move(*quick) : walk_on_ellipsoid(geod_s, path.lonlat_s, path.closed());
     } else if (edges.model == EdgeModel::rhumb) {
       walk_s[i] = walk_on_ellipsoid(*rhumb_s, path.lonlat_s, path.closed());
     } else if (transform_failure.empty()) {
@@ -1126,9 +1286,14 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   const std::vector<EllipsoidWalk>* walk_p = &walk_s;
   if (separate_target) {
     for (std::size_t i = 0; i < paths.size() && !straight; ++i) {
-      walk_p_own[i] = edges.model == EdgeModel::rhumb
-                          ? walk_on_ellipsoid(*rhumb_p, paths[i].lonlat_p, paths[i].closed())
-                          : walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
+      if (edges.model == EdgeModel::rhumb) {
+        walk_p_own[i] = walk_on_ellipsoid(*rhumb_p, paths[i].lonlat_p, paths[i].closed());
+        continue;
+      }
+      std::optional<EllipsoidWalk> quick =
+          short_p ? walk_short_edges(*short_p, geod_p, paths[i].lonlat_p, paths[i].closed(), short_scratch)
+                  : std::nullopt;
+      walk_p_own[i] = quick ? std::move(*quick) : walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
     }
     walk_p = &walk_p_own;
   }
@@ -1150,45 +1315,68 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     if (path.closed()) g_area2[i] = planar_area2(path.xy);
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
     PathDensifier densifier(op_fast.get(), tolerance_units, path, i, samples, densified);
-    GeographicLib::GeodesicLine geodesic;
-    GeographicLib::RhumbLine* rhumb = nullptr;
+    const std::size_t edge_count = path.edge_count();
+    // The true edge e as a curve over [0, edge_param[e]]; a geodesic line is only set up when it is followed.
+    std::optional<GeographicLib::GeodesicLine> geodesic;
     std::optional<GeographicLib::RhumbLine> rhumb_line;
-    for (std::size_t e = 0; e < path.edge_count(); ++e) {
-      const std::size_t j = (e + 1) % path.lonlat_p.size();
-      // Bearing: grid bearing of the chord minus the true edge's azimuth at the start vertex.
-      bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, walk.sin_azimuth[e],
-                  walk.cos_azimuth[e]);
-      if (straight && edge_crs_is_target) continue;  // the true edges are the chords: D = G
-      const Coord& a = path.lonlat_p[e];
-      PathDensifier::Curve curve;
+    auto curve_of = [&](std::size_t e) -> PathDensifier::Curve {
+      const Coord a = path.lonlat_p[e];
+      const double azimuth = walk.azimuth_deg[e];
       if (edges.model == EdgeModel::geodesic) {
-        geodesic = geod_p.Line(a.y, a.x, walk.azimuth_deg[e],
-                               GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
-                                   GeographicLib::Geodesic::DISTANCE_IN);
-        curve = [&geodesic](double s) {
+        geodesic.reset();
+        return [this, &geodesic, a, azimuth](double s) {
+          if (!geodesic) {
+            geodesic.emplace(geod_p.Line(a.y, a.x, azimuth,
+                                         GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
+                                             GeographicLib::Geodesic::DISTANCE_IN));
+          }
           Coord c;
-          geodesic.Position(s, c.y, c.x);
+          geodesic->Position(s, c.y, c.x);
           return c;
         };
-      } else if (edges.model == EdgeModel::rhumb) {
-        rhumb_line.emplace(rhumb_p->Line(a.y, a.x, walk.azimuth_deg[e]));
-        rhumb = &*rhumb_line;
-        curve = [rhumb](double s) {
+      }
+      if (edges.model == EdgeModel::rhumb) {
+        rhumb_line.emplace(rhumb_p->Line(a.y, a.x, azimuth));
+        GeographicLib::RhumbLine* rhumb = &*rhumb_line;
+        return [rhumb](double s) {
           Coord c;
           rhumb->Position(s, c.y, c.x);
           return c;
         };
-      } else {
-        const Coord c0 = path.c_xy[e], c1 = path.c_xy[j];
-        const double length = walk.edge_param[e];
-        curve = [c0, c1, length, c_to_p](double s) {
-          const double t = length > 0 ? s / length : 0;
-          const PJ_COORD out = proj_trans(c_to_p, PJ_FWD, proj_coord(c0.x + t * (c1.x - c0.x),
-                                                                       c0.y + t * (c1.y - c0.y), 0, 0));
-          return Coord{out.lp.lam, out.lp.phi};
-        };
       }
-      if (std::string why = densifier.edge(e, j, curve, walk.edge_param[e]); !why.empty()) {
+      const std::size_t j = (e + 1) % path.lonlat_p.size();
+      const Coord c0 = path.c_xy[e], c1 = path.c_xy[j];
+      const double length = walk.edge_param[e];
+      return [c0, c1, length, c_to_p](double s) {
+        const double t = length > 0 ? s / length : 0;
+        const PJ_COORD out = proj_trans(c_to_p, PJ_FWD, proj_coord(c0.x + t * (c1.x - c0.x),
+                                                                     c0.y + t * (c1.y - c0.y), 0, 0));
+        return Coord{out.lp.lam, out.lp.phi};
+      };
+    };
+    const bool densify = !(straight && edge_crs_is_target);  // else the true edges are the chords: D = G
+    // Every edge's midpoint (from the walk when it gives them), projected in one call.
+    std::vector<Coord> mid_lonlat, mid_xy;
+    if (densify) {
+      mid_lonlat.resize(edge_count, Coord{kNaN, kNaN});
+      for (std::size_t e = 0; e < edge_count; ++e) {
+        if (!walk.midpoint.empty()) {
+          mid_lonlat[e] = walk.midpoint[e];
+        } else if (walk.edge_param[e] > 1e-9) {
+          mid_lonlat[e] = curve_of(e)(0.5 * walk.edge_param[e]);
+        }
+      }
+      mid_xy = mid_lonlat;
+      transform_array(op_fast.get(), PJ_FWD, mid_xy);
+    }
+    for (std::size_t e = 0; e < edge_count; ++e) {
+      const std::size_t j = (e + 1) % path.lonlat_p.size();
+      // Bearing: grid bearing of the chord minus the true edge's azimuth at the start vertex.
+      bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, walk.sin_azimuth[e],
+                  walk.cos_azimuth[e]);
+      if (!densify) continue;
+      const PathDensifier::Curve curve = curve_of(e);
+      if (std::string why = densifier.edge(e, j, curve, walk.edge_param[e], mid_lonlat[e], mid_xy[e]); !why.empty()) {
         return fail(why, e_p_length, e_p_area);
       }
     }
