@@ -948,7 +948,7 @@ constexpr std::array<double, kChannels> kFlat = {1e-9, 1e-9, 1e-9, 1e-9, 1e-7, 1
 
 std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord>& samples) const {
   // A small feature: every point. Otherwise the points are screened. The factors vary smoothly over a feature, so
-  // each statistic is modelled as linear in local east and north (least squares over the anchors: the points
+  // each statistic is modelled as a quadratic in local east and north (least squares over the anchors: the points
   // extreme in eight directions); ρ is the model's largest residual at the anchors. A point can hold an extreme
   // only if its modelled value is within 4ρ of the modelled extreme; those candidates are evaluated exactly, and
   // the statistics are the extremes over every point evaluated. A statistic whose anchors span less than its
@@ -990,7 +990,10 @@ std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord
   const double coslat = std::cos(o.y * kDegToRad);
   std::vector<double> u(n), v(n);
   for (std::size_t i = 0; i < n; ++i) {
-    u[i] = GeographicLib::Math::AngDiff(o.x, pool[i].x) * coslat;
+    double du = pool[i].x - o.x;  // the model needs no more than a few digits: a plain wrap will do
+    if (du > 180) du -= 360;
+    else if (du < -180) du += 360;
+    u[i] = du * coslat;
     v[i] = pool[i].y - o.y;
   }
   std::vector<char> done(n, 0);
@@ -1010,58 +1013,87 @@ std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord
   for (std::size_t k = 0; k < anchors.size(); ++k) at[k] = pool[anchors[k]];
   const std::vector<PointFactors> af = factors_batch(at);
   take(af);
-  // Least squares of each channel on (1, u, v) over the anchors (normal equations; the anchors span the feature).
-  double m[3][3] = {}, rhs[kChannels][3] = {};
-  bool finite_anchors = true;
-  for (std::size_t k = 0; k < anchors.size(); ++k) {
-    const double basis[3] = {1, u[anchors[k]], v[anchors[k]]};
-    const auto val = channels(af[k]);
-    for (int c = 0; c < kChannels; ++c) finite_anchors = finite_anchors && std::isfinite(val[c]);
-    for (int r = 0; r < 3; ++r) {
-      for (int c = 0; c < 3; ++c) m[r][c] += basis[r] * basis[c];
-      for (int ch = 0; ch < kChannels; ++ch) rhs[ch][r] += basis[r] * val[ch];
-    }
+  // Least squares of each channel on a quadratic in (u, v) over the anchors, by modified Gram–Schmidt. A column
+  // that the anchors cannot tell from the others is dropped (e.g. u² + v² when they lie on a circle: it is then
+  // constant over them).
+  bool finite_anchors = anchors.size() >= 5;
+  for (const PointFactors& f : af) {
+    for (double val : channels(f)) finite_anchors = finite_anchors && std::isfinite(val);
   }
-  const double det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) -
-                     m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0]) +
-                     m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
-  const double scale = m[1][1] + m[2][2];
-  if (!finite_anchors || anchors.size() < 3 || !(std::fabs(det) > 1e-12 * scale * scale * m[0][0])) {
-    take(factors_batch(pool));  // degenerate (e.g. a straight line of points) or not projectable: every point
+  if (!finite_anchors) {
+    take(factors_batch(pool));  // too few distinct anchors, or a point that cannot be projected: every point
     return result();
   }
-  auto solve = [&](const double b[3], double x[3]) {  // Cramer's rule on the 3 × 3 normal equations
-    for (int col = 0; col < 3; ++col) {
-      double a[3][3];
-      for (int r = 0; r < 3; ++r) {
-        for (int c = 0; c < 3; ++c) a[r][c] = c == col ? b[r] : m[r][c];
-      }
-      x[col] = (a[0][0] * (a[1][1] * a[2][2] - a[1][2] * a[2][1]) - a[0][1] * (a[1][0] * a[2][2] - a[1][2] * a[2][0]) +
-                a[0][2] * (a[1][0] * a[2][1] - a[1][1] * a[2][0])) / det;
+  double extent = 0;
+  for (std::size_t i = 0; i < n; ++i) extent = std::max({extent, std::fabs(u[i]), std::fabs(v[i])});
+  extent = extent > 0 ? extent : 1;
+  constexpr int kTerms = 6;
+  std::vector<std::array<double, kTerms>> terms(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const double x = u[i] / extent, y = v[i] / extent;
+    terms[i] = {1, x, y, x * x - y * y, x * y, x * x + y * y};
+  }
+  const std::size_t na = anchors.size();
+  std::vector<double> q(kTerms * na);  // orthonormal columns over the anchors, column-major
+  double r[kTerms][kTerms] = {};
+  std::vector<int> kept;
+  for (int j = 0; j < kTerms; ++j) {
+    std::vector<double> col(na);
+    for (std::size_t k = 0; k < na; ++k) col[k] = terms[anchors[k]][j];
+    double norm0 = 0;
+    for (double c : col) norm0 += c * c;
+    for (int i : kept) {
+      double dot = 0;
+      for (std::size_t k = 0; k < na; ++k) dot += q[i * na + k] * col[k];
+      r[i][j] = dot;
+      for (std::size_t k = 0; k < na; ++k) col[k] -= dot * q[i * na + k];
     }
-  };
+    double norm = 0;
+    for (double c : col) norm += c * c;
+    if (!(norm > 1e-16 * norm0) || kept.size() + 1 >= na) continue;  // dependent, or no degree of freedom left
+    norm = std::sqrt(norm);
+    r[j][j] = norm;
+    for (std::size_t k = 0; k < na; ++k) q[j * na + k] = col[k] / norm;
+    kept.push_back(j);
+  }
   std::vector<char> candidate(n, 0);
   std::size_t candidates = 0;
+  std::vector<double> model(n);
   for (int ch = 0; ch < kChannels; ++ch) {
-    double coef[3];
-    solve(rhs[ch], coef);
+    std::vector<double> y(na);
+    for (std::size_t k = 0; k < na; ++k) y[k] = channels(af[k])[ch];
+    double c[kTerms] = {}, coef[kTerms] = {};
+    for (int i : kept) {
+      for (std::size_t k = 0; k < na; ++k) c[i] += q[i * na + k] * y[k];
+    }
+    for (auto it = kept.rbegin(); it != kept.rend(); ++it) {  // back substitution R β = c over the kept columns
+      double sum = c[*it];
+      for (int j : kept) {
+        if (j > *it) sum -= r[*it][j] * coef[j];
+      }
+      coef[*it] = sum / r[*it][*it];
+    }
+    auto predict = [&](std::size_t i) {
+      double sum = 0;
+      for (int j : kept) sum += coef[j] * terms[i][j];
+      return sum;
+    };
     double rho = 0, lo = std::numeric_limits<double>::infinity(), hi = -lo;
-    for (std::size_t k = 0; k < anchors.size(); ++k) {
-      const double val = channels(af[k])[ch];
-      rho = std::max(rho, std::fabs(val - (coef[0] + coef[1] * u[anchors[k]] + coef[2] * v[anchors[k]])));
-      lo = std::min(lo, val);
-      hi = std::max(hi, val);
+    for (std::size_t k = 0; k < na; ++k) {
+      rho = std::max(rho, std::fabs(y[k] - predict(anchors[k])));
+      lo = std::min(lo, y[k]);
+      hi = std::max(hi, y[k]);
     }
     const double flat = kFlat[ch] * (ch < 4 ? std::max(1.0, std::fabs(hi)) : 1.0);
     if (hi - lo + 4 * rho <= flat) continue;  // flat to its accuracy: the anchors give its extreme
     double best = kSense[ch] * -std::numeric_limits<double>::infinity();
-    std::vector<double> model(n);
     for (std::size_t i = 0; i < n; ++i) {
-      model[i] = coef[0] + coef[1] * u[i] + coef[2] * v[i];
+      model[i] = predict(i);
       best = kSense[ch] > 0 ? std::max(best, model[i]) : std::min(best, model[i]);
     }
+    const double band = 4 * rho + flat;
     for (std::size_t i = 0; i < n; ++i) {
-      if (!done[i] && !candidate[i] && kSense[ch] * (best - model[i]) <= 4 * rho) candidate[i] = 1, ++candidates;
+      if (!done[i] && !candidate[i] && kSense[ch] * (best - model[i]) <= band) candidate[i] = 1, ++candidates;
     }
   }
   std::vector<Coord> rest;
