@@ -1351,9 +1351,25 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     // The true edge e as a curve over [0, edge_param[e]]; a geodesic line is only set up when it is followed.
     std::optional<GeographicLib::GeodesicLine> geodesic;
     std::optional<GeographicLib::RhumbLine> rhumb_line;
+    // Geodesic edges solved by GeographicLib: their lines, set up once for the midpoint and kept for refining.
+    std::vector<GeographicLib::GeodesicLine> lines;
+    if (edges.model == EdgeModel::geodesic && walk.midpoint.empty()) lines.resize(edge_count);
     auto curve_of = [&](std::size_t e) -> PathDensifier::Curve {
       const Coord a = path.lonlat_p[e];
       const double azimuth = walk.azimuth_deg[e];
+      if (!lines.empty()) {
+        GeographicLib::GeodesicLine* line = &lines[e];
+        if (!line->Init()) {
+          *line = geod_p.Line(a.y, a.x, azimuth,
+                              GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
+                                  GeographicLib::Geodesic::DISTANCE_IN);
+        }
+        return [line](double s) {
+          Coord c;
+          line->Position(s, c.y, c.x);
+          return c;
+        };
+      }
       if (edges.model == EdgeModel::geodesic) {
         geodesic.reset();
         return [this, &geodesic, a, azimuth](double s) {
