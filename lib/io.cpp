@@ -154,7 +154,7 @@ FeatureReader::~FeatureReader() = default;
 FeatureReader::FeatureReader(FeatureReader&&) noexcept = default;
 FeatureReader& FeatureReader::operator=(FeatureReader&&) noexcept = default;
 
-std::optional<InputFeature> FeatureReader::next() {
+std::optional<RawFeature> FeatureReader::next_raw() {
   auto& s = *impl_;
   if (s.done) return std::nullopt;
   if (!s.reader) {
@@ -166,26 +166,44 @@ std::optional<InputFeature> FeatureReader::next() {
       default: s.reader = detail::make_geojson_reader(s.source, s.options); break;
     }
   }
-  std::optional<InputFeature> feature;
+  std::optional<RawFeature> raw;
   try {
-    feature = s.reader->next();
+    raw = s.reader->next_raw();
   } catch (...) {
     s.done = true;
     throw;
   }
-  if (!feature) {
+  if (!raw) {
     s.done = true;
     return std::nullopt;
   }
-  feature->position = ++s.count;
-  if (feature->id.empty()) feature->id = std::to_string(feature->position);
-  if (!feature->geometry && feature->error.empty()) feature->error = "no geometry";
-  if (feature->geometry && feature->geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
-    feature->error = "empty geometry: " + std::string(to_string(feature->geometry->type)) + " with no coordinates";
-    feature->declared_type = feature->geometry->type;
-    feature->geometry.reset();
+  raw->position = ++s.count;
+  return raw;
+}
+
+InputFeature FeatureReader::parse(RawFeature raw) const {
+  InputFeature feature;
+  if (raw.read) {
+    feature = std::move(*raw.read);
+  } else {
+    feature.line = raw.line;
+    detail::parse_json_feature(raw, impl_->options, feature);
+  }
+  feature.position = raw.position;
+  if (feature.id.empty()) feature.id = std::to_string(feature.position);
+  if (!feature.geometry && feature.error.empty()) feature.error = "no geometry";
+  if (feature.geometry && feature.geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
+    feature.error = "empty geometry: " + std::string(to_string(feature.geometry->type)) + " with no coordinates";
+    feature.declared_type = feature.geometry->type;
+    feature.geometry.reset();
   }
   return feature;
+}
+
+std::optional<InputFeature> FeatureReader::next() {
+  std::optional<RawFeature> raw = next_raw();
+  if (!raw) return std::nullopt;
+  return parse(std::move(*raw));
 }
 
 std::string format_number(double value) {
