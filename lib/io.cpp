@@ -206,17 +206,30 @@ std::optional<InputFeature> FeatureReader::next() {
   return parse(std::move(*raw));
 }
 
-std::string format_number(double value) {
-  if (!std::isfinite(value)) return {};
-  if (value == 0) return "0";  // also for -0: a signed zero means nothing here
+namespace detail {
+
+void append_number(std::string& out, double value) {
+  if (!std::isfinite(value)) return;
+  if (value == 0) {  // also for -0: a signed zero means nothing here
+    out += '0';
+    return;
+  }
   char buf[64];
   // Without a precision, to_chars writes the shortest text that reads back to the same double; plain decimals
   // in the range where they stay short enough to read.
   const double magnitude = std::fabs(value);
   const auto format = (magnitude >= 1e-5 && magnitude < 1e15) ? std::chars_format::fixed : std::chars_format::general;
   const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, format);
-  if (ec != std::errc()) return {};
-  return std::string(buf, end);
+  if (ec != std::errc()) return;
+  out.append(buf, end);
+}
+
+}  // namespace detail
+
+std::string format_number(double value) {
+  std::string text;
+  detail::append_number(text, value);
+  return text;
 }
 
 std::string csv_field(std::string_view text) {

@@ -97,4 +97,7 @@ bool parse_wkt(std::string_view text, Geometry& geometry, std::optional<Geometry
 
 bool is_json_space(int c) noexcept;
 
+/// Appends format_number(value) to `out` (nothing for NaN and infinities) without a string of its own.
+void append_number(std::string& out, double value);
+
 }  // namespace gridtruth::detail

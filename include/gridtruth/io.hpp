@@ -152,6 +152,7 @@ class ResultCsvWriter {
   std::ostream* out_;
   std::string line_ending_;
   bool combined_factor_ = false;
+  std::string line_;  // the row being built, kept so that its buffer is reused
 };
 
 }  // namespace gridtruth
