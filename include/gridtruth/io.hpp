@@ -1,11 +1,11 @@
 // gridtruth — reading features (GeoJSON, newline-delimited GeoJSON, CSV with WKT) and writing result rows (CSV).
 //
-// Readers are pull-based: FeatureReader::next() yields one feature at a time, so inputs of any size stream
-// through in constant memory (except a GeoJSON document that is a single Feature or bare geometry, which is read
-// whole). Every feature found in the input yields exactly one InputFeature: a feature that cannot be understood
-// comes back with `error` set and no geometry, never dropped. Only an input that is unreadable as a whole (not
-// JSON at all, a CSV without its geometry column, brackets that do not match) makes next() throw
-// Error(ErrorCode::parse), naming the byte offset or line.
+// Readers are pull-based: FeatureReader::next() yields one feature at a time (or next_raw() cuts it and parse(),
+// on any thread, reads it), so inputs of any size stream through in constant memory (except a GeoJSON document
+// that is a single Feature or bare geometry, which is read whole). Every feature found in the input yields exactly
+// one InputFeature: a feature that cannot be understood comes back with `error` set and no geometry, never dropped.
+// Only an input that is unreadable as a whole (not JSON at all, a CSV without its geometry column, brackets that do
+// not match) makes next() throw Error(ErrorCode::parse), naming the byte offset or line.
 // Byte numbers in messages are 0-based offsets into the input; line numbers are 1-based.
 #pragma once
 
