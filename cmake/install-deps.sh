@@ -5,7 +5,7 @@ set -euo pipefail
 packages=(
   build-essential cmake ninja-build pkg-config
   libgeographiclib-dev libproj-dev proj-data proj-bin libtbb-dev libgdal-dev
-  libboost-dev libfmt-dev nlohmann-json3-dev libcli11-dev
+  libboost-dev libfmt-dev nlohmann-json3-dev libsimdjson-dev libcli11-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen
   librsvg2-bin libxml2-utils zlib1g-dev

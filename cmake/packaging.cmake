@@ -11,7 +11,7 @@ target_include_directories(gridtruth PUBLIC $<BUILD_INTERFACE:${GRIDTRUTH_GENERA
 # A static libgridtruth needs its dependencies (PROJ, GeographicLib and, when linked, oneTBB) on the link line
 # itself, so they are public requirements (Requires) then; a shared one links them itself (Requires.private).
 # Header-only dependencies (nlohmann_json) are used privately and need nothing.
-set(_gridtruth_pc_modules "proj >= 9" geographiclib)
+set(_gridtruth_pc_modules "proj >= 9" geographiclib simdjson)
 get_target_property(_gridtruth_links gridtruth LINK_LIBRARIES)
 if("TBB::tbb" IN_LIST _gridtruth_links)
   list(APPEND _gridtruth_pc_modules tbb)

@@ -1,6 +1,11 @@
 // gridtruth cells — class rasters read through GDAL.
+//
+// GDAL is loaded when a raster is first opened (dlopen), not linked: libgdal pulls in about a hundred shared
+// libraries whose loading cost every run of every command about 0.1 s. Its C API is resolved by name into a table
+// of pointers typed after GDAL's own headers. GRIDTRUTH_GDAL_SONAME names the library found at build time.
 #include "raster_gdal.hpp"
 
+#include <dlfcn.h>
 #include <gdal.h>
 #include <cpl_conv.h>
 #include <cpl_error.h>
@@ -13,22 +18,60 @@
 
 #include "gridtruth/error.hpp"
 
+#ifndef GRIDTRUTH_GDAL_SONAME
+#define GRIDTRUTH_GDAL_SONAME "libgdal.so"
+#endif
+
 namespace gridtruth::cli {
 
 namespace {
 
+#define GRIDTRUTH_GDAL_FUNCTIONS(X)                                                                              \
+  X(GDALAllRegister) X(CPLPushErrorHandler) X(CPLQuietErrorHandler) X(CPLPopErrorHandler) X(GDALOpen)          \
+  X(GDALClose) X(GDALGetRasterCount) X(GDALGetGeoTransform) X(GDALGetRasterXSize) X(GDALGetRasterYSize)         \
+  X(GDALGetSpatialRef) X(OSRGetAuthorityName) X(OSRGetAuthorityCode) X(OSRExportToWktEx) X(VSIFree)            \
+  X(GDALGetRasterNoDataValue) X(GDALGetRasterBand) X(GDALGetRasterDataType) X(GDALDataTypeIsFloating)          \
+  X(GDALDataTypeIsComplex) X(GDALGetDataTypeName) X(GDALGetBlockSize) X(GDALRasterIO)
+
+/// GDAL's C functions, resolved on first use. Throws Error(io) when the library or a function is missing.
+struct Gdal {
+#define GRIDTRUTH_GDAL_MEMBER(name) decltype(&::name) name = nullptr;
+  GRIDTRUTH_GDAL_FUNCTIONS(GRIDTRUTH_GDAL_MEMBER)
+#undef GRIDTRUTH_GDAL_MEMBER
+
+  static const Gdal& get() {
+    static const Gdal gdal = load();  // thread-safe initialisation; the library stays loaded
+    return gdal;
+  }
+
+ private:
+  static Gdal load() {
+    void* library = dlopen(GRIDTRUTH_GDAL_SONAME, RTLD_NOW | RTLD_LOCAL);
+    if (!library)
+      throw Error(ErrorCode::io, std::string("cannot load GDAL (") + GRIDTRUTH_GDAL_SONAME + "): " + dlerror());
+    Gdal g;
+#define GRIDTRUTH_GDAL_RESOLVE(name)                                                                    \
+  g.name = reinterpret_cast<decltype(&::name)>(dlsym(library, #name));                                  \
+  if (!g.name) throw Error(ErrorCode::io, std::string("GDAL (") + GRIDTRUTH_GDAL_SONAME + ") lacks " #name);
+    GRIDTRUTH_GDAL_FUNCTIONS(GRIDTRUTH_GDAL_RESOLVE)
+#undef GRIDTRUTH_GDAL_RESOLVE
+    g.GDALAllRegister();
+    return g;
+  }
+};
+
 struct DatasetCloser {
-  void operator()(void* ds) const noexcept { GDALClose(ds); }
+  void operator()(void* ds) const noexcept { Gdal::get().GDALClose(ds); }
 };
 using Dataset = std::unique_ptr<void, DatasetCloser>;
 
 Dataset open_raster(const std::string& path) {
-  GDALAllRegister();
-  CPLPushErrorHandler(CPLQuietErrorHandler);
-  Dataset ds(GDALOpen(path.c_str(), GA_ReadOnly));
-  CPLPopErrorHandler();
+  const Gdal& gdal = Gdal::get();
+  gdal.CPLPushErrorHandler(gdal.CPLQuietErrorHandler);
+  Dataset ds(gdal.GDALOpen(path.c_str(), GA_ReadOnly));
+  gdal.CPLPopErrorHandler();
   if (!ds) throw Error(ErrorCode::io, "GDAL cannot open " + path);
-  if (GDALGetRasterCount(ds.get()) < 1) throw Error(ErrorCode::parse, path + " has no raster band");
+  if (gdal.GDALGetRasterCount(ds.get()) < 1) throw Error(ErrorCode::parse, path + " has no raster band");
   return ds;
 }
 
@@ -36,32 +79,33 @@ Dataset open_raster(const std::string& path) {
 
 RasterHeader read_raster_header(const std::string& path) {
   const Dataset ds = open_raster(path);
+  const Gdal& gdal = Gdal::get();
   RasterHeader h;
   double gt[6];
-  if (GDALGetGeoTransform(ds.get(), gt) != CE_None)
+  if (gdal.GDALGetGeoTransform(ds.get(), gt) != CE_None)
     throw Error(ErrorCode::parse, path + " has no geotransform; give --origin and --pixel");
   if (gt[2] != 0 || gt[4] != 0) throw Error(ErrorCode::parse, path + " has a rotated geotransform");
   h.grid.origin_x = gt[0];
   h.grid.pixel_x = gt[1];
   h.grid.origin_y = gt[3];
   h.grid.pixel_y = gt[5];
-  h.grid.cols = static_cast<std::size_t>(GDALGetRasterXSize(ds.get()));
-  h.grid.rows = static_cast<std::size_t>(GDALGetRasterYSize(ds.get()));
-  OGRSpatialReferenceH srs = GDALGetSpatialRef(ds.get());
+  h.grid.cols = static_cast<std::size_t>(gdal.GDALGetRasterXSize(ds.get()));
+  h.grid.rows = static_cast<std::size_t>(gdal.GDALGetRasterYSize(ds.get()));
+  OGRSpatialReferenceH srs = gdal.GDALGetSpatialRef(ds.get());
   if (srs) {
-    const char* authority = OSRGetAuthorityName(srs, nullptr);
-    const char* code = OSRGetAuthorityCode(srs, nullptr);
+    const char* authority = gdal.OSRGetAuthorityName(srs, nullptr);
+    const char* code = gdal.OSRGetAuthorityCode(srs, nullptr);
     if (authority && code && std::string(authority) == "EPSG") {
       h.grid.crs = std::string("EPSG:") + code;
     } else {
       char* wkt = nullptr;
       const char* options[] = {"FORMAT=WKT2_2019", nullptr};
-      if (OSRExportToWktEx(srs, &wkt, options) == OGRERR_NONE && wkt) h.grid.crs = wkt;
-      CPLFree(wkt);
+      if (gdal.OSRExportToWktEx(srs, &wkt, options) == OGRERR_NONE && wkt) h.grid.crs = wkt;
+      gdal.VSIFree(wkt);  // CPLFree
     }
   }
   int has_nodata = 0;
-  const double nodata = GDALGetRasterNoDataValue(GDALGetRasterBand(ds.get(), 1), &has_nodata);
+  const double nodata = gdal.GDALGetRasterNoDataValue(gdal.GDALGetRasterBand(ds.get(), 1), &has_nodata);
   if (has_nodata && nodata >= 0 && nodata <= 65535 && nodata == std::floor(nodata))
     h.nodata = static_cast<std::uint32_t>(nodata);
   return h;
@@ -69,18 +113,19 @@ RasterHeader read_raster_header(const std::string& path) {
 
 void add_raster_classes(const std::string& path, const GridSpec& grid, ClassAreaAccumulator& acc) {
   const Dataset ds = open_raster(path);
-  const auto cols = static_cast<std::size_t>(GDALGetRasterXSize(ds.get()));
-  const auto rows = static_cast<std::size_t>(GDALGetRasterYSize(ds.get()));
+  const Gdal& gdal = Gdal::get();
+  const auto cols = static_cast<std::size_t>(gdal.GDALGetRasterXSize(ds.get()));
+  const auto rows = static_cast<std::size_t>(gdal.GDALGetRasterYSize(ds.get()));
   if (cols != grid.cols || rows != grid.rows)
     throw Error(ErrorCode::invalid_argument, path + " is " + std::to_string(cols) + " x " + std::to_string(rows) +
                                                  " cells, the grid " + std::to_string(grid.cols) + " x " +
                                                  std::to_string(grid.rows));
-  GDALRasterBandH band = GDALGetRasterBand(ds.get(), 1);
-  const GDALDataType type = GDALGetRasterDataType(band);
-  if (GDALDataTypeIsFloating(type) || GDALDataTypeIsComplex(type))
-    throw Error(ErrorCode::parse, path + " holds " + GDALGetDataTypeName(type) + " values, not class codes");
+  GDALRasterBandH band = gdal.GDALGetRasterBand(ds.get(), 1);
+  const GDALDataType type = gdal.GDALGetRasterDataType(band);
+  if (gdal.GDALDataTypeIsFloating(type) || gdal.GDALDataTypeIsComplex(type))
+    throw Error(ErrorCode::parse, path + " holds " + gdal.GDALGetDataTypeName(type) + " values, not class codes");
   int block_x = 0, block_y = 0;
-  GDALGetBlockSize(band, &block_x, &block_y);
+  gdal.GDALGetBlockSize(band, &block_x, &block_y);
   // Strips of whole rows, a multiple of the file's block height, about 4 Mi cells at most.
   std::size_t strip_rows = std::max<std::size_t>(1, static_cast<std::size_t>(block_y));
   while (strip_rows * 2 * cols <= (std::size_t{1} << 22) && strip_rows * 2 <= rows) strip_rows *= 2;
@@ -89,7 +134,7 @@ void add_raster_classes(const std::string& path, const GridSpec& grid, ClassArea
   for (std::size_t r = 0; r < rows; r += strip_rows) {
     const std::size_t n = std::min(strip_rows, rows - r);
     values.resize(n * cols);
-    if (GDALRasterIO(band, GF_Read, 0, static_cast<int>(r), static_cast<int>(cols), static_cast<int>(n),
+    if (gdal.GDALRasterIO(band, GF_Read, 0, static_cast<int>(r), static_cast<int>(cols), static_cast<int>(n),
                      values.data(), static_cast<int>(cols), static_cast<int>(n), GDT_Int32, 0, 0) != CE_None)
       throw Error(ErrorCode::io, "GDAL cannot read rows " + std::to_string(r) + " to " + std::to_string(r + n - 1) +
                                      " of " + path);

@@ -154,7 +154,7 @@ FeatureReader::~FeatureReader() = default;
 FeatureReader::FeatureReader(FeatureReader&&) noexcept = default;
 FeatureReader& FeatureReader::operator=(FeatureReader&&) noexcept = default;
 
-std::optional<InputFeature> FeatureReader::next() {
+std::optional<RawFeature> FeatureReader::next_raw() {
   auto& s = *impl_;
   if (s.done) return std::nullopt;
   if (!s.reader) {
@@ -166,39 +166,70 @@ std::optional<InputFeature> FeatureReader::next() {
       default: s.reader = detail::make_geojson_reader(s.source, s.options); break;
     }
   }
-  std::optional<InputFeature> feature;
+  std::optional<RawFeature> raw;
   try {
-    feature = s.reader->next();
+    raw = s.reader->next_raw();
   } catch (...) {
     s.done = true;
     throw;
   }
-  if (!feature) {
+  if (!raw) {
     s.done = true;
     return std::nullopt;
   }
-  feature->position = ++s.count;
-  if (feature->id.empty()) feature->id = std::to_string(feature->position);
-  if (!feature->geometry && feature->error.empty()) feature->error = "no geometry";
-  if (feature->geometry && feature->geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
-    feature->error = "empty geometry: " + std::string(to_string(feature->geometry->type)) + " with no coordinates";
-    feature->declared_type = feature->geometry->type;
-    feature->geometry.reset();
+  raw->position = ++s.count;
+  return raw;
+}
+
+InputFeature FeatureReader::parse(RawFeature raw) const {
+  InputFeature feature;
+  if (raw.read) {
+    feature = std::move(*raw.read);
+  } else {
+    feature.line = raw.line;
+    detail::parse_json_feature(raw, impl_->options, feature);
+  }
+  feature.position = raw.position;
+  if (feature.id.empty()) feature.id = std::to_string(feature.position);
+  if (!feature.geometry && feature.error.empty()) feature.error = "no geometry";
+  if (feature.geometry && feature.geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
+    feature.error = "empty geometry: " + std::string(to_string(feature.geometry->type)) + " with no coordinates";
+    feature.declared_type = feature.geometry->type;
+    feature.geometry.reset();
   }
   return feature;
 }
 
-std::string format_number(double value) {
-  if (!std::isfinite(value)) return {};
-  if (value == 0) return "0";  // also for -0: a signed zero means nothing here
+std::optional<InputFeature> FeatureReader::next() {
+  std::optional<RawFeature> raw = next_raw();
+  if (!raw) return std::nullopt;
+  return parse(std::move(*raw));
+}
+
+namespace detail {
+
+void append_number(std::string& out, double value) {
+  if (!std::isfinite(value)) return;
+  if (value == 0) {  // also for -0: a signed zero means nothing here
+    out += '0';
+    return;
+  }
   char buf[64];
   // Without a precision, to_chars writes the shortest text that reads back to the same double; plain decimals
   // in the range where they stay short enough to read.
   const double magnitude = std::fabs(value);
   const auto format = (magnitude >= 1e-5 && magnitude < 1e15) ? std::chars_format::fixed : std::chars_format::general;
   const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, format);
-  if (ec != std::errc()) return {};
-  return std::string(buf, end);
+  if (ec != std::errc()) return;
+  out.append(buf, end);
+}
+
+}  // namespace detail
+
+std::string format_number(double value) {
+  std::string text;
+  detail::append_number(text, value);
+  return text;
 }
 
 std::string csv_field(std::string_view text) {

@@ -92,7 +92,17 @@ class CsvReader final : public FormatReader {
  public:
   CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options) {}
 
-  std::optional<InputFeature> next() override {
+  std::optional<RawFeature> next_raw() override {
+    std::optional<InputFeature> f = read();
+    if (!f) return std::nullopt;
+    RawFeature raw;
+    raw.line = f->line;
+    raw.read = std::move(f);
+    return raw;
+  }
+
+ private:
+  std::optional<InputFeature> read() {
     if (!header_read_) read_header();
     Record r;
     for (;;) {
@@ -144,7 +154,6 @@ class CsvReader final : public FormatReader {
     return f;
   }
 
- private:
   void read_header() {
     header_read_ = true;
     src_.skip_bom();

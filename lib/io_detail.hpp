@@ -3,6 +3,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 #include <istream>
 #include <memory>
 #include <optional>
@@ -32,6 +33,23 @@ class Source {
     if (c == '\n') ++line_;
     return c;
   }
+  /// The buffered bytes from the next one on, refilled when none are left; empty only at the end of the input.
+  /// Valid until the next call of any member. Scanning these and then consume() is the fast way through the input.
+  std::string_view buffered() {
+    if (pos_ == buf_.size() && !fill()) return {};
+    return std::string_view(buf_).substr(pos_);
+  }
+  /// Consumes the next n bytes of buffered() (n ≤ its size), counting the line breaks in them.
+  void consume(std::size_t n) {
+    const char* p = buf_.data() + pos_;
+    const char* const end = p + n;
+    while ((p = static_cast<const char*>(std::memchr(p, '\n', static_cast<std::size_t>(end - p)))) != nullptr) {
+      ++line_;
+      ++p;
+    }
+    pos_ += n;
+    offset_ += n;
+  }
   /// Up to n bytes ahead without consuming them (fewer at the end of the input).
   std::string_view look_ahead(std::size_t n);
   /// Skips a UTF-8 byte order mark if the input starts with one.
@@ -53,13 +71,20 @@ class Source {
   bool at_end_ = false;
 };
 
-/// One format's reader. Implementations fill everything in InputFeature but `position` (and `id` when the input
-/// gives none): the facade numbers the features.
+/// One format's reader. Implementations cut the next feature (RawFeature::text, or RawFeature::read for formats
+/// parsed as they are cut) and fill everything but `position`: the facade numbers the features.
 class FormatReader {
  public:
   virtual ~FormatReader() = default;
-  virtual std::optional<InputFeature> next() = 0;
+  virtual std::optional<RawFeature> next_raw() = 0;
 };
+
+/// Parses a JSON feature cut by the GeoJSON or ndjson reader into `f` (which holds the line already): simdjson
+/// first, nlohmann-json where the exact nlohmann result needs it (malformed JSON, \u escapes, signed zeros).
+/// Thread-safe. Fills everything but `position` (and `id` when the input gives none).
+void parse_json_feature(const RawFeature& raw, const ReaderOptions& options, InputFeature& f);
+/// The same with nlohmann-json only (the reference the fast path must agree with; for tests).
+void parse_json_feature_reference(const RawFeature& raw, const ReaderOptions& options, InputFeature& f);
 
 std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options);
@@ -71,5 +96,8 @@ bool parse_wkt(std::string_view text, Geometry& geometry, std::optional<Geometry
                std::string& error);
 
 bool is_json_space(int c) noexcept;
+
+/// Appends format_number(value) to `out` (nothing for NaN and infinities) without a string of its own.
+void append_number(std::string& out, double value);
 
 }  // namespace gridtruth::detail

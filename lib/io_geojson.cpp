@@ -2,12 +2,22 @@
 // tolerated) readers.
 //
 // A FeatureCollection is streamed: the top-level object is scanned lexically and each element of its "features"
-// array is cut out (strings, escapes and bracket nesting tracked) and parsed on its own with nlohmann-json, so a
-// malformed feature gives one invalid feature and the others are still read. A Feature or bare geometry document
-// is read whole.
+// array is cut out (strings, escapes and bracket nesting tracked, scanning the buffered bytes in bulk) and parsed
+// on its own, so a malformed feature gives one invalid feature and the others are still read. A Feature or bare
+// geometry document is read whole. Cutting (next_raw) and parsing (parse_json_feature) are apart so that parsing
+// can run on worker threads.
+//
+// Parsing uses simdjson's DOM API; the conversion to a feature is one template over two JSON adapters, so that it
+// says the same things, in the same order, whichever parser read the text. nlohmann-json parses a text instead
+// when its result must be exactly nlohmann's: malformed JSON (its messages and byte offsets are the readers'
+// contract), \u escapes (lone surrogates), and a zero with a minus sign (nlohmann reads "-0" as the integer 0).
+#include <cmath>
 #include <cstdint>
 #include <cstdio>
+#include <cstring>
+#include <memory>
 #include <nlohmann/json.hpp>
+#include <simdjson.h>
 #include <string>
 #include <utility>
 #include <vector>
@@ -22,17 +32,20 @@ namespace {
 
 using nlohmann::json;
 
-std::string json_type_name(const json& j) {
-  switch (j.type()) {
-    case json::value_t::null: return "null";
-    case json::value_t::boolean: return "a boolean";
-    case json::value_t::string: return "a string";
-    case json::value_t::array: return "an array";
-    case json::value_t::object: return "an object";
-    case json::value_t::binary: return "binary data";
-    case json::value_t::discarded: return "nothing";
-    default: return "a number";
+/// The JSON value kinds the messages name.
+enum class Kind { null, boolean, string, array, object, number, other };
+
+std::string kind_name(Kind k) {
+  switch (k) {
+    case Kind::null: return "null";
+    case Kind::boolean: return "a boolean";
+    case Kind::string: return "a string";
+    case Kind::array: return "an array";
+    case Kind::object: return "an object";
+    case Kind::number: return "a number";
+    case Kind::other: return "nothing";
   }
+  return "nothing";
 }
 
 /// Thrown inside the conversion of one feature; becomes the feature's error.
@@ -40,36 +53,181 @@ struct FeatureProblem {
   std::string message;
 };
 
+/// Thrown by the simdjson adapter where only nlohmann's reading gives nlohmann's result (see the file comment).
+struct NeedsReference {};
+
 [[noreturn]] void problem(std::string message) { throw FeatureProblem{std::move(message)}; }
 
-Coord position(const json& j, const std::string& where) {
-  if (!j.is_array()) problem(where + ": a position is an array of numbers (RFC 7946 section 3.1.1), found " +
-                             json_type_name(j));
-  if (j.size() < 2) problem(where + ": a position needs at least 2 numbers (RFC 7946 section 3.1.1), found " +
-                            std::to_string(j.size()));
-  for (std::size_t k = 0; k < 2; ++k) {
-    if (!j[k].is_number())
-      problem(where + "[" + std::to_string(k) + "]: expected a number, found " + json_type_name(j[k]));
+// ---- The two adapters: the same questions asked of an nlohmann value and of a simdjson DOM element ------------
+
+struct NlohmannJson {
+  using Value = const json*;
+  static Kind kind(Value v) {
+    switch (v->type()) {
+      case json::value_t::null: return Kind::null;
+      case json::value_t::boolean: return Kind::boolean;
+      case json::value_t::string: return Kind::string;
+      case json::value_t::array: return Kind::array;
+      case json::value_t::object: return Kind::object;
+      case json::value_t::number_integer:
+      case json::value_t::number_unsigned:
+      case json::value_t::number_float: return Kind::number;
+      default: return Kind::other;
+    }
   }
-  return Coord{j[0].get<double>(), j[1].get<double>()};
+  static std::optional<Value> member(Value object, std::string_view key) {
+    const auto it = object->find(key);
+    if (it == object->end()) return std::nullopt;
+    return &*it;
+  }
+  static std::size_t size(Value array) { return array->size(); }
+  template <class F>
+  static void each(Value array, F&& f) {
+    for (std::size_t k = 0; k < array->size(); ++k) f(k, &(*array)[k]);
+  }
+  static double number(Value v) { return v->get<double>(); }
+  static std::string string(Value v) { return v->get<std::string>(); }
+  static std::string id_text(Value v) {
+    if (v->is_string()) return v->get<std::string>();
+    if (v->is_number_unsigned()) return std::to_string(v->get<std::uint64_t>());
+    if (v->is_number_integer()) return std::to_string(v->get<std::int64_t>());
+    if (v->is_number_float()) return format_number(v->get<double>());
+    if (v->is_boolean()) return v->get<bool>() ? "true" : "false";
+    return {};
+  }
+  static std::string dump(Value object) { return object->dump(); }
+};
+
+struct SimdJson {
+  using Value = simdjson::dom::element;
+  static Kind kind(Value v) {
+    switch (v.type()) {
+      case simdjson::dom::element_type::NULL_VALUE: return Kind::null;
+      case simdjson::dom::element_type::BOOL: return Kind::boolean;
+      case simdjson::dom::element_type::STRING: return Kind::string;
+      case simdjson::dom::element_type::ARRAY: return Kind::array;
+      case simdjson::dom::element_type::OBJECT: return Kind::object;
+      default: return Kind::number;
+    }
+  }
+  /// The last member of that name, as nlohmann keeps it (RFC 8259 section 4 leaves duplicate names open).
+  static std::optional<Value> member(Value object, std::string_view key) {
+    std::optional<Value> found;
+    for (const auto field : simdjson::dom::object(object)) {
+      if (field.key == key) found = field.value;
+    }
+    return found;
+  }
+  static std::size_t size(Value array) { return simdjson::dom::array(array).size(); }
+  template <class F>
+  static void each(Value array, F&& f) {
+    std::size_t k = 0;
+    for (const Value v : simdjson::dom::array(array)) f(k++, v);
+  }
+  static double number(Value v) {
+    switch (v.type()) {
+      case simdjson::dom::element_type::INT64: return static_cast<double>(int64_t(v));
+      case simdjson::dom::element_type::UINT64: return static_cast<double>(uint64_t(v));
+      default: {
+        const double d = double(v);
+        if (d == 0 && std::signbit(d)) throw NeedsReference{};  // "-0" (integer 0) or "-0.0" (-0.0)?
+        return d;
+      }
+    }
+  }
+  static std::string string(Value v) { return std::string(std::string_view(v)); }
+  static std::string id_text(Value v) {
+    switch (v.type()) {
+      case simdjson::dom::element_type::STRING: return string(v);
+      case simdjson::dom::element_type::UINT64: return std::to_string(uint64_t(v));
+      case simdjson::dom::element_type::INT64: return std::to_string(int64_t(v));
+      case simdjson::dom::element_type::DOUBLE: return format_number(double(v));
+      case simdjson::dom::element_type::BOOL: return bool(v) ? "true" : "false";
+      default: return {};
+    }
+  }
+  static json to_nlohmann(Value v) {
+    switch (v.type()) {
+      case simdjson::dom::element_type::OBJECT: {
+        json j = json::object();
+        for (const auto field : simdjson::dom::object(v)) j[std::string(field.key)] = to_nlohmann(field.value);
+        return j;
+      }
+      case simdjson::dom::element_type::ARRAY: {
+        json j = json::array();
+        for (const Value e : simdjson::dom::array(v)) j.push_back(to_nlohmann(e));
+        return j;
+      }
+      case simdjson::dom::element_type::STRING: return json(std::string_view(v));
+      case simdjson::dom::element_type::INT64: {
+        const int64_t i = int64_t(v);
+        if (i >= 0) return json(static_cast<std::uint64_t>(i));  // nlohmann keeps non-negative integers unsigned
+        return json(i);
+      }
+      case simdjson::dom::element_type::UINT64: return json(uint64_t(v));
+      case simdjson::dom::element_type::DOUBLE: return json(number(v));
+      case simdjson::dom::element_type::BOOL: return json(bool(v));
+      default: return json(nullptr);
+    }
+  }
+  /// nlohmann's text of the object (members sorted by name, duplicates resolved as nlohmann does), built from the
+  /// DOM; an empty object needs no detour.
+  static std::string dump(Value object) {
+    if (simdjson::dom::object(object).size() == 0) return "{}";
+    return to_nlohmann(object).dump();
+  }
+};
+
+// ---- The conversion, once for both adapters ---------------------------------------------------------------------
+
+/// Where a value sits below "coordinates" (a chain of array indices), spelt out only for a message: building
+/// the text for every position would cost more than reading it.
+struct Where {
+  const Where* parent = nullptr;
+  std::size_t index = 0;
+  std::string text() const {
+    return parent ? parent->text() + "[" + std::to_string(index) + "]" : std::string("coordinates");
+  }
+};
+
+template <class A>
+Coord position(typename A::Value j, const Where& where) {
+  if (A::kind(j) != Kind::array)
+    problem(where.text() + ": a position is an array of numbers (RFC 7946 section 3.1.1), found " +
+            kind_name(A::kind(j)));
+  const std::size_t n = A::size(j);
+  if (n < 2) problem(where.text() + ": a position needs at least 2 numbers (RFC 7946 section 3.1.1), found " +
+                     std::to_string(n));
+  double xy[2] = {0, 0};
+  A::each(j, [&](std::size_t k, typename A::Value v) {
+    if (k >= 2) return;
+    if (A::kind(v) != Kind::number)
+      problem(where.text() + "[" + std::to_string(k) + "]: expected a number, found " + kind_name(A::kind(v)));
+    xy[k] = A::number(v);
+  });
+  return Coord{xy[0], xy[1]};
 }
 
-Path positions(const json& j, const std::string& where) {
-  if (!j.is_array()) problem(where + ": expected an array of positions, found " + json_type_name(j));
+template <class A>
+Path positions(typename A::Value j, const Where& where) {
+  if (A::kind(j) != Kind::array)
+    problem(where.text() + ": expected an array of positions, found " + kind_name(A::kind(j)));
   Path p;
-  p.reserve(j.size());
-  for (std::size_t k = 0; k < j.size(); ++k) p.push_back(position(j[k], where + "[" + std::to_string(k) + "]"));
+  p.reserve(A::size(j));
+  A::each(j, [&](std::size_t k, typename A::Value v) { p.push_back(position<A>(v, Where{&where, k})); });
   return p;
 }
 
-Polygon polygon(const json& j, const std::string& where) {
-  if (!j.is_array()) problem(where + ": expected an array of rings, found " + json_type_name(j));
+template <class A>
+Polygon polygon(typename A::Value j, const Where& where) {
+  if (A::kind(j) != Kind::array)
+    problem(where.text() + ": expected an array of rings, found " + kind_name(A::kind(j)));
   Polygon poly;
-  for (std::size_t k = 0; k < j.size(); ++k) {
-    Path ring = positions(j[k], where + "[" + std::to_string(k) + "]");
+  A::each(j, [&](std::size_t k, typename A::Value v) {
+    Path ring = positions<A>(v, Where{&where, k});
     if (k == 0) poly.outer = std::move(ring);
     else poly.holes.push_back(std::move(ring));
-  }
+  });
   return poly;
 }
 
@@ -84,95 +242,91 @@ std::optional<GeometryType> geometry_type_named(const std::string& t) {
 }
 
 /// Converts a GeoJSON geometry object. `declared` is set as soon as the type is known.
-Geometry geometry(const json& j, std::optional<GeometryType>& declared) {
-  if (!j.is_object()) problem("geometry: expected a GeoJSON geometry object, found " + json_type_name(j));
-  const auto t = j.find("type");
-  if (t == j.end()) problem("geometry has no \"type\" member (RFC 7946 section 3.1)");
-  if (!t->is_string()) problem("geometry \"type\" is " + json_type_name(*t) + ", not a string");
-  const auto name = t->get<std::string>();
+template <class A>
+Geometry geometry(typename A::Value j, std::optional<GeometryType>& declared) {
+  if (A::kind(j) != Kind::object)
+    problem("geometry: expected a GeoJSON geometry object, found " + kind_name(A::kind(j)));
+  const auto t = A::member(j, "type");
+  if (!t) problem("geometry has no \"type\" member (RFC 7946 section 3.1)");
+  if (A::kind(*t) != Kind::string) problem("geometry \"type\" is " + kind_name(A::kind(*t)) + ", not a string");
+  const auto name = A::string(*t);
   if (name == "GeometryCollection")
     problem("GeometryCollection is not supported: give each member as a feature of its own");
   const auto type = geometry_type_named(name);
   if (!type) problem("unknown geometry type \"" + name + "\"");
   declared = type;
-  const auto c = j.find("coordinates");
-  if (c == j.end()) problem(name + " has no \"coordinates\" member (RFC 7946 section 3.1)");
-  const json& coords = *c;
+  const auto c = A::member(j, "coordinates");
+  if (!c) problem(name + " has no \"coordinates\" member (RFC 7946 section 3.1)");
+  const auto coords = *c;
+  const bool empty_array = A::kind(coords) == Kind::array && A::size(coords) == 0;
   Geometry g;
   g.type = *type;
-  const std::string where = "coordinates";
+  const Where where;
   switch (*type) {
     case GeometryType::point:
       // RFC 7946 section 3.1 lets processors read an empty "coordinates" array as an empty geometry.
-      if (coords.is_array() && coords.empty()) break;
-      g.points.push_back(position(coords, where));
+      if (empty_array) break;
+      g.points.push_back(position<A>(coords, where));
       break;
-    case GeometryType::multi_point: g.points = positions(coords, where); break;
+    case GeometryType::multi_point: g.points = positions<A>(coords, where); break;
     case GeometryType::line_string:
-      if (coords.is_array() && coords.empty()) break;
-      g.lines.push_back(positions(coords, where));
+      if (empty_array) break;
+      g.lines.push_back(positions<A>(coords, where));
       break;
     case GeometryType::multi_line_string:
-      if (!coords.is_array()) problem(where + ": expected an array of line strings, found " + json_type_name(coords));
-      for (std::size_t k = 0; k < coords.size(); ++k)
-        g.lines.push_back(positions(coords[k], where + "[" + std::to_string(k) + "]"));
+      if (A::kind(coords) != Kind::array)
+        problem(where.text() + ": expected an array of line strings, found " + kind_name(A::kind(coords)));
+      A::each(coords, [&](std::size_t k, typename A::Value v) {
+        g.lines.push_back(positions<A>(v, Where{&where, k}));
+      });
       break;
     case GeometryType::polygon:
-      if (coords.is_array() && coords.empty()) break;
-      g.polygons.push_back(polygon(coords, where));
+      if (empty_array) break;
+      g.polygons.push_back(polygon<A>(coords, where));
       break;
     case GeometryType::multi_polygon:
-      if (!coords.is_array()) problem(where + ": expected an array of polygons, found " + json_type_name(coords));
-      for (std::size_t k = 0; k < coords.size(); ++k)
-        g.polygons.push_back(polygon(coords[k], where + "[" + std::to_string(k) + "]"));
+      if (A::kind(coords) != Kind::array)
+        problem(where.text() + ": expected an array of polygons, found " + kind_name(A::kind(coords)));
+      A::each(coords, [&](std::size_t k, typename A::Value v) {
+        g.polygons.push_back(polygon<A>(v, Where{&where, k}));
+      });
       break;
   }
   return g;
 }
 
-std::string id_text(const json& j) {
-  if (j.is_string()) return j.get<std::string>();
-  if (j.is_number_unsigned()) return std::to_string(j.get<std::uint64_t>());
-  if (j.is_number_integer()) return std::to_string(j.get<std::int64_t>());
-  if (j.is_number_float()) return format_number(j.get<double>());
-  if (j.is_boolean()) return j.get<bool>() ? "true" : "false";
-  return {};
-}
-
-/// Fills `f` from one parsed GeoJSON object (a Feature or a bare geometry).
-void feature_from_json(const json& j, const ReaderOptions& options, InputFeature& f) {
+/// Fills `f` from one parsed GeoJSON value (a Feature or a bare geometry). NeedsReference passes through.
+template <class A>
+void feature_from_value(typename A::Value j, const ReaderOptions& options, InputFeature& f) {
   try {
-    if (!j.is_object()) problem("expected a GeoJSON Feature object, found " + json_type_name(j));
-    const auto t = j.find("type");
-    if (t == j.end()) problem("object has no \"type\" member (RFC 7946 section 3)");
-    if (!t->is_string()) problem("\"type\" is " + json_type_name(*t) + ", not a string");
-    const auto name = t->get<std::string>();
+    if (A::kind(j) != Kind::object) problem("expected a GeoJSON Feature object, found " + kind_name(A::kind(j)));
+    const auto t = A::member(j, "type");
+    if (!t) problem("object has no \"type\" member (RFC 7946 section 3)");
+    if (A::kind(*t) != Kind::string) problem("\"type\" is " + kind_name(A::kind(*t)) + ", not a string");
+    const auto name = A::string(*t);
     if (name == "Feature") {
-      if (const auto props = j.find("properties"); props != j.end() && props->is_object()) {
-        f.properties_json = props->dump();
+      // "properties" counts when it is an object (null and anything else: no properties).
+      const auto props = A::member(j, "properties");
+      const bool has_props = props && A::kind(*props) == Kind::object;
+      if (has_props) f.properties_json = A::dump(*props);
+      if (const auto id = A::member(j, "id")) f.id = A::id_text(*id);
+      if (f.id.empty() && !options.id_field.empty() && has_props) {
+        if (const auto v = A::member(*props, options.id_field)) f.id = A::id_text(*v);
       }
-      if (const auto id = j.find("id"); id != j.end()) f.id = id_text(*id);
-      if (f.id.empty() && !options.id_field.empty()) {
-        const auto props = j.find("properties");
-        if (props != j.end() && props->is_object()) {
-          if (const auto v = props->find(options.id_field); v != props->end()) f.id = id_text(*v);
-        }
-      }
-      const auto g = j.find("geometry");
-      if (g == j.end()) problem("Feature has no \"geometry\" member (RFC 7946 section 3.2)");
-      if (g->is_null()) problem("Feature has a null geometry (an unlocated feature, RFC 7946 section 3.2)");
-      f.geometry = geometry(*g, f.declared_type);
+      const auto g = A::member(j, "geometry");
+      if (!g) problem("Feature has no \"geometry\" member (RFC 7946 section 3.2)");
+      if (A::kind(*g) == Kind::null)
+        problem("Feature has a null geometry (an unlocated feature, RFC 7946 section 3.2)");
+      f.geometry = geometry<A>(*g, f.declared_type);
       if (!options.height_field.empty()) {
-        const auto props = j.find("properties");
-        const json* v = nullptr;
-        if (props != j.end() && props->is_object()) {
-          if (const auto found = props->find(options.height_field); found != props->end()) v = &*found;
+        const auto v = has_props ? A::member(*props, options.height_field) : std::nullopt;
+        if (!v || A::kind(*v) == Kind::null)
+          problem("height property \"" + options.height_field + "\" is missing or null");
+        if (A::kind(*v) != Kind::number) {
+          problem("height property \"" + options.height_field + "\" is " + kind_name(A::kind(*v)) +
+                  ", not a number");
         }
-        if (!v || v->is_null()) problem("height property \"" + options.height_field + "\" is missing or null");
-        if (!v->is_number()) {
-          problem("height property \"" + options.height_field + "\" is " + json_type_name(*v) + ", not a number");
-        }
-        f.height_m = v->get<double>();
+        f.height_m = A::number(*v);
       }
     } else if (name == "FeatureCollection") {
       problem("a FeatureCollection where a Feature belongs");
@@ -180,7 +334,7 @@ void feature_from_json(const json& j, const ReaderOptions& options, InputFeature
       if (!options.height_field.empty()) {
         problem("a bare geometry has no properties, so no height property \"" + options.height_field + "\"");
       }
-      f.geometry = geometry(j, f.declared_type);
+      f.geometry = geometry<A>(j, f.declared_type);
     }
   } catch (const FeatureProblem& p) {
     f.geometry.reset();
@@ -203,10 +357,10 @@ std::string parse_error_text(const json::parse_error& e) {
   return bracket == std::string::npos ? what : what.substr(bracket + 2);
 }
 
-/// Parses one JSON text that starts at byte `base` of the input and fills `f` from it.
-/// (`base` absent: the text was rebuilt, so byte offsets would not be the input's.)
-void feature_from_text(const std::string& text, std::optional<std::uint64_t> base, const ReaderOptions& options,
-                       InputFeature& f) {
+/// Parses one JSON text with nlohmann-json and fills `f` from it. `base`: the byte of the input where the text
+/// starts (absent: the text was rebuilt, so byte offsets would not be the input's).
+void feature_from_text_reference(std::string_view text, std::optional<std::uint64_t> base,
+                                 const ReaderOptions& options, InputFeature& f) {
   json j;
   try {
     j = json::parse(text);
@@ -219,43 +373,132 @@ void feature_from_text(const std::string& text, std::optional<std::uint64_t> bas
     f.error = std::string("malformed JSON: ") + e.what();
     return;
   }
-  feature_from_json(j, options, f);
+  feature_from_value<NlohmannJson>(&j, options, f);
+}
+
+/// Whether the text holds a backslash-u escape (or what looks like one: an escaped backslash before a "u").
+bool has_unicode_escape(std::string_view text) {
+  const char* p = text.data();
+  const char* const end = p + text.size();
+  while ((p = static_cast<const char*>(std::memchr(p, '\\', static_cast<std::size_t>(end - p)))) != nullptr) {
+    if (++p < end && *p == 'u') return true;
+  }
+  return false;
+}
+
+/// Texts above this size are parsed by a parser of their own, so that a worker does not keep a huge buffer.
+constexpr std::size_t large_text_bytes = std::size_t{1} << 20;
+
+/// Parses with simdjson and fills `f`; false (and `f` untouched) when nlohmann must read the text instead.
+bool feature_from_text_fast(const std::string& text, const ReaderOptions& options, InputFeature& f) {
+  if (has_unicode_escape(text)) return false;
+  thread_local simdjson::dom::parser shared_parser;
+  std::unique_ptr<simdjson::dom::parser> own_parser;
+  simdjson::dom::parser* parser = &shared_parser;
+  if (text.size() > large_text_bytes) {
+    own_parser = std::make_unique<simdjson::dom::parser>();
+    parser = own_parser.get();
+  }
+  // simdjson reads up to SIMDJSON_PADDING bytes past the end: a string with that much spare capacity is used in
+  // place, any other is copied.
+  const bool padded = text.capacity() - text.size() >= simdjson::SIMDJSON_PADDING;
+  simdjson::dom::element root;
+  if (parser->parse(text.data(), text.size(), !padded).get(root) != simdjson::SUCCESS) return false;
+  InputFeature g;
+  g.line = f.line;
+  try {
+    feature_from_value<SimdJson>(root, options, g);
+  } catch (const NeedsReference&) {
+    return false;
+  }
+  f = std::move(g);
+  return true;
+}
+
+void finish_json_feature(const RawFeature& raw, InputFeature& f) {
+  if (raw.line_in_messages && !f.error.empty() && f.error.rfind("malformed JSON", 0) == 0)
+    f.error = "line " + std::to_string(f.line) + ": " + f.error;
 }
 
 enum class Scan { complete, end_of_input };
 
+/// Bytes that matter outside strings when cutting an object or array: quotes and brackets.
+struct StructuralTable {
+  bool flag[256] = {};
+  constexpr StructuralTable() {
+    flag[static_cast<unsigned char>('"')] = flag[static_cast<unsigned char>('{')] = true;
+    flag[static_cast<unsigned char>('[')] = flag[static_cast<unsigned char>('}')] = true;
+    flag[static_cast<unsigned char>(']')] = true;
+  }
+};
+constexpr StructuralTable structural{};
+
 /// Cuts one JSON value out of the source (lexically: strings, escapes and bracket nesting). Throws Error(parse)
-/// when brackets do not match.
+/// when brackets do not match. Objects and arrays are scanned over the buffered bytes and appended in bulk, with
+/// SIMDJSON_PADDING spare bytes of capacity so the parser can read the text in place.
 Scan scan_value(Source& src, std::string& out) {
   out.clear();
-  std::vector<char> stack;
   int c = src.peek();
   if (c == '{' || c == '[') {
+    std::vector<char> stack;
     bool in_string = false;
-    while ((c = src.get()) >= 0) {
-      out.push_back(static_cast<char>(c));
-      if (in_string) {
-        if (c == '\\') {
-          const int e = src.get();
-          if (e < 0) return Scan::end_of_input;
-          out.push_back(static_cast<char>(e));
-        } else if (c == '"') {
+    bool escaped = false;  // the previous chunk ended on a backslash inside a string
+    for (;;) {
+      const std::string_view buf = src.buffered();
+      if (buf.empty()) return Scan::end_of_input;
+      const char* const data = buf.data();
+      const std::size_t n = buf.size();
+      std::size_t i = 0;
+      bool complete = false;
+      if (escaped) {
+        i = 1;
+        escaped = false;
+      }
+      while (i < n) {
+        if (in_string) {
+          // Jump to the next quote or backslash.
+          while (i < n && data[i] != '"' && data[i] != '\\') ++i;
+          if (i == n) break;
+          if (data[i] == '\\') {
+            if (i + 1 == n) {
+              escaped = true;
+              i = n;
+              break;
+            }
+            i += 2;
+            continue;
+          }
           in_string = false;
+          ++i;
+          continue;
         }
-      } else if (c == '"') {
-        in_string = true;
-      } else if (c == '{' || c == '[') {
-        stack.push_back(c == '{' ? '}' : ']');
-      } else if (c == '}' || c == ']') {
-        if (stack.empty() || stack.back() != c)
-          throw Error(ErrorCode::parse, "unmatched \"" + std::string(1, static_cast<char>(c)) + "\" at byte " +
+        while (i < n && !structural.flag[static_cast<unsigned char>(data[i])]) ++i;
+        if (i == n) break;
+        const char b = data[i++];
+        if (b == '"') {
+          in_string = true;
+        } else if (b == '{' || b == '[') {
+          stack.push_back(b == '{' ? '}' : ']');
+        } else if (stack.empty() || stack.back() != b) {
+          out.append(data, i);
+          src.consume(i);
+          throw Error(ErrorCode::parse, "unmatched \"" + std::string(1, b) + "\" at byte " +
                                             std::to_string(src.offset() - 1) + " (line " +
                                             std::to_string(src.line()) + ")");
-        stack.pop_back();
-        if (stack.empty()) return Scan::complete;
+        } else {
+          stack.pop_back();
+          if (stack.empty()) {
+            complete = true;
+            break;
+          }
+        }
       }
+      if (out.capacity() < out.size() + i + simdjson::SIMDJSON_PADDING)
+        out.reserve(std::max(2 * out.capacity(), out.size() + i + simdjson::SIMDJSON_PADDING));
+      out.append(data, i);
+      src.consume(i);
+      if (complete) return Scan::complete;
     }
-    return Scan::end_of_input;
   }
   if (c == '"') {
     out.push_back(static_cast<char>(src.get()));
@@ -298,7 +541,7 @@ class GeoJsonReader final : public FormatReader {
  public:
   GeoJsonReader(Source& src, const ReaderOptions& options) : src_(src), options_(options) {}
 
-  std::optional<InputFeature> next() override {
+  std::optional<RawFeature> next_raw() override {
     if (state_ == State::start) start();
     if (state_ == State::members) read_members();
     if (state_ == State::features) return next_feature();
@@ -412,14 +655,14 @@ class GeoJsonReader final : public FormatReader {
     }
     text += '}';
     members_.clear();
-    InputFeature f;
+    RawFeature f;
     f.line = 1;
-    feature_from_text(text, std::nullopt, options_, f);
+    f.text = std::move(text);
     single_ = std::move(f);
     state_ = State::single;
   }
 
-  std::optional<InputFeature> next_feature() {
+  std::optional<RawFeature> next_feature() {
     skip_space(src_);
     int c = src_.peek();
     if (!first_element_) {
@@ -445,16 +688,20 @@ class GeoJsonReader final : public FormatReader {
     }
     if (c < 0) container_error(src_, "the input ends inside the \"features\" array (truncated?)");
     first_element_ = false;
-    InputFeature f;
+    RawFeature f;
     f.line = src_.line();
     const auto at = src_.offset();
-    if (scan_value(src_, element_) == Scan::end_of_input) {
-      f.error = "the input ends inside this feature, which starts at byte " + std::to_string(at) +
-                " (truncated file?)";
+    if (scan_value(src_, f.text) == Scan::end_of_input) {
+      InputFeature truncated;
+      truncated.line = f.line;
+      truncated.error = "the input ends inside this feature, which starts at byte " + std::to_string(at) +
+                        " (truncated file?)";
+      f.text.clear();
+      f.read = std::move(truncated);
       state_ = State::done;
       return f;
     }
-    feature_from_text(element_, at, options_, f);
+    f.byte = at;
     return f;
   }
 
@@ -463,8 +710,7 @@ class GeoJsonReader final : public FormatReader {
   State state_ = State::start;
   std::optional<std::string> type_;
   std::vector<std::pair<std::string, std::string>> members_;
-  std::string element_;
-  std::optional<InputFeature> single_;
+  std::optional<RawFeature> single_;
   bool streamed_ = false;
   bool first_element_ = true;
   bool expect_member_ = false;
@@ -476,36 +722,52 @@ class NdjsonReader final : public FormatReader {
     src_.skip_bom();
   }
 
-  std::optional<InputFeature> next() override {
+  std::optional<RawFeature> next_raw() override {
     for (;;) {
       // Skip blank space between texts (blank lines are not features).
       while (is_json_space(src_.peek())) src_.get();
-      int c = src_.peek();
+      const int c = src_.peek();
       if (c < 0) return std::nullopt;
-      InputFeature f;
+      RawFeature f;
+      f.line_in_messages = true;
       f.line = src_.line();
       std::uint64_t at = src_.offset();
-      text_.clear();
-      if (c == 0x1E) {  // RFC 8142 / RFC 7464: RS, then a JSON text, up to the next RS
+      if (c == 0x1E) {  // RFC 8142 / RFC 7464: RS, then a JSON text, up to the next RS (not consumed)
         src_.get();
         at = src_.offset();
         f.line = src_.line();
-        while ((c = src_.peek()) >= 0 && c != 0x1E) text_.push_back(static_cast<char>(src_.get()));
-      } else {
-        while ((c = src_.get()) >= 0 && c != '\n') text_.push_back(static_cast<char>(c));
+        cut_until(f.text, '\x1E', false);
+      } else {  // one line; its LF is consumed, not kept
+        cut_until(f.text, '\n', true);
       }
-      if (text_.find_first_not_of(" \t\r\n") == std::string::npos) continue;  // an empty record
-      feature_from_text(text_, at, options_, f);
-      if (!f.error.empty() && f.error.rfind("malformed JSON", 0) == 0)
-        f.error = "line " + std::to_string(f.line) + ": " + f.error;
+      if (f.text.find_first_not_of(" \t\r\n") == std::string::npos) continue;  // an empty record
+      f.byte = at;
       return f;
     }
   }
 
  private:
+  /// Appends the bytes up to `stop` (or the end of the input) to `text`, a buffer at a time; consumes `stop` too
+  /// when `consume_stop`. Leaves SIMDJSON_PADDING spare bytes of capacity (see scan_value).
+  void cut_until(std::string& text, char stop, bool consume_stop) {
+    for (;;) {
+      const std::string_view buf = src_.buffered();
+      if (buf.empty()) return;
+      const void* hit = std::memchr(buf.data(), stop, buf.size());
+      const std::size_t n = hit ? static_cast<std::size_t>(static_cast<const char*>(hit) - buf.data()) : buf.size();
+      if (text.capacity() < text.size() + n + simdjson::SIMDJSON_PADDING)
+        text.reserve(std::max(2 * text.capacity(), text.size() + n + simdjson::SIMDJSON_PADDING));
+      text.append(buf.data(), n);
+      if (hit) {
+        src_.consume(consume_stop ? n + 1 : n);
+        return;
+      }
+      src_.consume(n);
+    }
+  }
+
   Source& src_;
   const ReaderOptions& options_;
-  std::string text_;
 };
 
 }  // namespace
@@ -516,6 +778,16 @@ std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOp
 
 std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options) {
   return std::make_unique<NdjsonReader>(source, options);
+}
+
+void parse_json_feature(const RawFeature& raw, const ReaderOptions& options, InputFeature& f) {
+  if (!feature_from_text_fast(raw.text, options, f)) feature_from_text_reference(raw.text, raw.byte, options, f);
+  finish_json_feature(raw, f);
+}
+
+void parse_json_feature_reference(const RawFeature& raw, const ReaderOptions& options, InputFeature& f) {
+  feature_from_text_reference(raw.text, raw.byte, options, f);
+  finish_json_feature(raw, f);
 }
 
 }  // namespace detail

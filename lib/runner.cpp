@@ -24,7 +24,10 @@ AuditResult unread_result(const InputFeature& feature) {
 
 namespace {
 
+/// Features travel through the pipeline as raw text (cut serially), are parsed and audited in the parallel stage
+/// and handed to the sink in order.
 struct Batch {
+  std::vector<RawFeature> raws;
   std::vector<InputFeature> features;
   std::vector<AuditResult> results;
 };
@@ -56,22 +59,22 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                 return nullptr;
               }
               auto batch = std::make_shared<Batch>();
-              batch->features.reserve(batch_size);
+              batch->raws.reserve(batch_size);
               try {
-                while (batch->features.size() < batch_size) {
-                  std::optional<InputFeature> f = reader.next();
+                while (batch->raws.size() < batch_size) {
+                  std::optional<RawFeature> f = reader.next_raw();
                   if (!f) {
                     done = true;
                     break;
                   }
-                  batch->features.push_back(std::move(*f));
+                  batch->raws.push_back(std::move(*f));
                 }
               } catch (...) {
                 // Finish the features read so far, then rethrow once the pipeline has drained.
                 reader_failure = std::current_exception();
                 done = true;
               }
-              if (batch->features.empty()) {
+              if (batch->raws.empty()) {
                 flow.stop();
                 return nullptr;
               }
@@ -81,6 +84,9 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                 tbb::filter_mode::parallel,
                 [&](std::shared_ptr<Batch> batch) {
                   std::unique_ptr<Auditor>& mine = local.local();
+                  batch->features.reserve(batch->raws.size());
+                  for (RawFeature& raw : batch->raws) batch->features.push_back(reader.parse(std::move(raw)));
+                  batch->raws = {};
                   batch->results.reserve(batch->features.size());
                   for (const InputFeature& f : batch->features) {
                     batch->results.push_back(!f.geometry  ? unread_result(f)

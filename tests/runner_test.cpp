@@ -129,4 +129,47 @@ TEST(Runner, UnreadableContainerThrowsAfterTheFeaturesBeforeIt) {
   EXPECT_EQ(seen, (std::vector<std::string>{"1", "2"}));
 }
 
+TEST(Runner, FeaturesParsedOnTheWorkersAreThoseNextGivesInOrder) {
+  // Parsing runs on the workers now: with many threads and tiny batches the sink must still see every feature,
+  // in input order, exactly as FeatureReader::next() reads it (GeoJSON FeatureCollection, bad features included).
+  const std::uint64_t seed = 99;
+  RecordProperty("seed", std::to_string(seed));
+  std::string text = R"({"type":"FeatureCollection","features":[)";
+  std::istringstream lines(make_ndjson(400, seed));
+  std::string line;
+  for (bool first = true; std::getline(lines, line); first = false) text += (first ? "" : ",\n") + line;
+  text += R"(,{"type":"Feature","geometry":{"type":"Point","coordinates":[NaN,1]}}]})";
+  std::vector<InputFeature> expected;
+  {
+    std::istringstream in(text);
+    FeatureReader reader(in, {gridtruth::InputFormat::geojson});
+    while (auto f = reader.next()) expected.push_back(std::move(*f));
+  }
+  ASSERT_EQ(expected.size(), 401U);
+  AuditOptions options;
+  options.target_crs = "EPSG:26915";
+  const Auditor auditor(options);
+  for (const auto& [threads, batch] : std::vector<std::pair<unsigned, std::size_t>>{{8, 1}, {8, 3}, {3, 50}}) {
+    std::istringstream in(text);
+    FeatureReader reader(in, {gridtruth::InputFormat::geojson});
+    RunOptions run_options;
+    run_options.threads = threads;
+    run_options.batch_features = batch;
+    std::size_t k = 0;
+    const std::size_t n = gridtruth::run_audit(reader, auditor, run_options,
+                                               [&](const InputFeature& f, const AuditResult& r) {
+                                                 ASSERT_LT(k, expected.size());
+                                                 const InputFeature& e = expected[k++];
+                                                 EXPECT_EQ(f.position, e.position);
+                                                 EXPECT_EQ(f.id, e.id);
+                                                 EXPECT_EQ(f.line, e.line);
+                                                 EXPECT_EQ(f.error, e.error);
+                                                 EXPECT_EQ(f.geometry.has_value(), e.geometry.has_value());
+                                                 if (!e.geometry) EXPECT_EQ(r.message, e.error);
+                                               });
+    EXPECT_EQ(n, expected.size()) << threads << " threads, batches of " << batch;
+    EXPECT_EQ(k, expected.size());
+  }
+}
+
 }  // namespace

@@ -1,11 +1,11 @@
 // gridtruth — reading features (GeoJSON, newline-delimited GeoJSON, CSV with WKT) and writing result rows (CSV).
 //
-// Readers are pull-based: FeatureReader::next() yields one feature at a time, so inputs of any size stream
-// through in constant memory (except a GeoJSON document that is a single Feature or bare geometry, which is read
-// whole). Every feature found in the input yields exactly one InputFeature: a feature that cannot be understood
-// comes back with `error` set and no geometry, never dropped. Only an input that is unreadable as a whole (not
-// JSON at all, a CSV without its geometry column, brackets that do not match) makes next() throw
-// Error(ErrorCode::parse), naming the byte offset or line.
+// Readers are pull-based: FeatureReader::next() yields one feature at a time (or next_raw() cuts it and parse(),
+// on any thread, reads it), so inputs of any size stream through in constant memory (except a GeoJSON document
+// that is a single Feature or bare geometry, which is read whole). Every feature found in the input yields exactly
+// one InputFeature: a feature that cannot be understood comes back with `error` set and no geometry, never dropped.
+// Only an input that is unreadable as a whole (not JSON at all, a CSV without its geometry column, brackets that do
+// not match) makes next() throw Error(ErrorCode::parse), naming the byte offset or line.
 // Byte numbers in messages are 0-based offsets into the input; line numbers are 1-based.
 #pragma once
 
@@ -63,7 +63,23 @@ struct InputFeature {
   std::string properties_json;
 };
 
+/// One feature cut out of the input by FeatureReader::next_raw() and not parsed yet; FeatureReader::parse() turns
+/// it into the InputFeature that next() would have returned. Cutting is cheap and serial, parsing is the costly
+/// part and may run on other threads. The members other than `position` and `line` are the reader's working state:
+/// read them for diagnostics, do not change them.
+struct RawFeature {
+  std::size_t position = 0;  ///< 1-based position in the input
+  std::size_t line = 0;      ///< line where the feature starts (0 when not tracked)
+  std::string text;          ///< the feature's JSON text (GeoJSON, ndjson); empty when `read` holds the feature
+  std::optional<std::uint64_t> byte;  ///< 0-based offset of `text` in the input; absent when the text was rebuilt
+  bool line_in_messages = false;      ///< malformed-JSON messages start with "line N: " (ndjson)
+  std::optional<InputFeature> read;   ///< the feature, already read (CSV records, a truncated last feature)
+};
+
 /// Pulls features one at a time from a stream or a file.
+///
+/// Thread-safety: next(), next_raw(), format() and bytes_read() are for one thread at a time. parse() is const and
+/// may run on any number of threads at once, also while another thread calls next_raw().
 class FeatureReader {
  public:
   /// Reads from `in`, which must outlive the reader.
@@ -79,6 +95,16 @@ class FeatureReader {
   /// The next feature, or nothing at the end of the input. Throws Error(parse) when the container is unreadable
   /// (the first call may also throw for an empty input or a CSV header without the geometry column).
   std::optional<InputFeature> next();
+
+  /// The next feature's text, cut out of the input without parsing it, or nothing at the end of the input.
+  /// parse(*next_raw()) is the feature next() would have returned; the two may be mixed. Throws as next() does
+  /// (a malformed feature inside a readable container is no throw: parse() gives it its error).
+  /// CSV records are read whole here (RawFeature::read), so only JSON inputs gain from parsing elsewhere.
+  std::optional<RawFeature> next_raw();
+  /// Parses a feature cut by next_raw() of this reader (consuming its text). Never throws for bad feature content
+  /// (the InputFeature carries the error); thread-safe (see the class comment). Cost: about 1 µs per kilobyte of
+  /// GeoJSON; features with Unicode escapes, signed zeros or malformed JSON take a slower exact path.
+  InputFeature parse(RawFeature raw) const;
 
   /// The format in use (sniffed on the first call to next() when `automatic`; `automatic` until then).
   InputFormat format() const noexcept;
@@ -126,6 +152,7 @@ class ResultCsvWriter {
   std::ostream* out_;
   std::string line_ending_;
   bool combined_factor_ = false;
+  std::string line_;  // the row being built, kept so that its buffer is reused
 };
 
 }  // namespace gridtruth

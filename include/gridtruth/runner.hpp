@@ -24,7 +24,9 @@ using ResultSink = std::function<void(const InputFeature& feature, const AuditRe
 /// `invalid` result carrying the reader's message; so every feature read yields exactly one call of `sink`.
 ///
 /// Memory stays bounded whatever the input size: at most about 2 × threads + 2 batches are alive at once.
-/// Reading and the sink run on one thread at a time (in order), the audits on all workers.
+/// Cutting the features out of the input (FeatureReader::next_raw()) and the sink run on one thread at a time (in
+/// order); parsing the features (FeatureReader::parse(); CSV records are parsed as they are cut) and the audits
+/// run on all workers.
 /// Throws what the reader throws (Error(parse) for an unreadable container) after the features before the fault
 /// have been handed to the sink; a sink that throws stops the run with its exception.
 /// Returns the number of features read.
