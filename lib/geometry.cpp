@@ -54,8 +54,18 @@ void check_coord(const Coord& c, const std::string& where, std::vector<Problem>&
 
 // Number of distinct vertices of a path. Repeated consecutive vertices and a closing vertex are the same
 // point as their neighbour, so counting distinct values covers both; non-finite vertices each count once
-// (they are reported on their own and must not also produce a "too few vertices" report).
-std::size_t distinct_vertices(const Path& path) {
+// (they are reported on their own and must not also produce a "too few vertices" report). Stops early, with a
+// count of at least `enough`, once that many are found.
+std::size_t distinct_vertices(const Path& path, std::size_t enough) {
+  // Cheap exit for the common case: `enough` pairwise different finite vertices among the first ones seen.
+  std::vector<Coord> seen;
+  for (const Coord& c : path) {
+    if (!(std::isfinite(c.x) && std::isfinite(c.y))) break;
+    if (std::none_of(seen.begin(), seen.end(), [&](const Coord& s) { return s.x == c.x && s.y == c.y; })) {
+      seen.push_back(c);
+      if (seen.size() >= enough) return seen.size();
+    }
+  }
   std::vector<std::pair<double, double>> finite;
   finite.reserve(path.size());
   std::size_t non_finite = 0;
@@ -70,9 +80,15 @@ std::size_t distinct_vertices(const Path& path) {
   return static_cast<std::size_t>(last - finite.begin()) + non_finite;
 }
 
+bool plausible(const Coord& c) noexcept {
+  return std::isfinite(c.x) && std::isfinite(c.y) && std::abs(c.y) <= 90 && std::abs(c.x) <= 540;
+}
+
 void check_vertices(const Path& path, const std::string& where, std::vector<Problem>& problems) {
-  for (std::size_t i = 0; i < path.size(); ++i)
+  for (std::size_t i = 0; i < path.size(); ++i) {
+    if (plausible(path[i])) continue;  // the location text is only built for a vertex with a problem
     check_coord(path[i], join_location(where, "vertex " + std::to_string(i)), problems);
+  }
 }
 
 void check_line(const Path& line, const std::string& where, std::vector<Problem>& problems) {
@@ -81,7 +97,7 @@ void check_line(const Path& line, const std::string& where, std::vector<Problem>
     return;
   }
   check_vertices(line, where, problems);
-  const std::size_t n = distinct_vertices(line);
+  const std::size_t n = distinct_vertices(line, 2);
   if (n < 2)
     add(problems, Problem::Code::too_few_vertices, where,
         "line has " + std::to_string(n) + " distinct vertex, needs 2");
@@ -93,7 +109,7 @@ void check_ring(const Path& ring, const std::string& where, std::vector<Problem>
     return;
   }
   check_vertices(ring, where, problems);
-  const std::size_t n = distinct_vertices(ring);
+  const std::size_t n = distinct_vertices(ring, 3);
   if (n < 3)
     add(problems, Problem::Code::too_few_vertices, where,
         "ring has " + std::to_string(n) + (n == 1 ? " distinct vertex" : " distinct vertices") + ", needs 3");
