@@ -128,6 +128,13 @@ struct EllipsoidWalk {
   std::vector<double> edge_param;  // the edge's curve parameter range: metres along it (geodesic, rhumb) or the
                                    // chord length in the edge CRS's unit (straight edges)
   std::vector<Coord> midpoint;     // each edge's midpoint (longitude, latitude) when the walk gives it; else empty
+
+  void resize(std::size_t edges) {
+    azimuth_deg.resize(edges);
+    sin_azimuth.resize(edges);
+    cos_azimuth.resize(edges);
+    edge_param.resize(edges);
+  }
 };
 
 /// Accumulates edges (length, S12, prime-meridian crossings) and reduces the sum to a ring's signed area.
@@ -185,10 +192,7 @@ EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonl
   EllipsoidWalk w;
   const std::size_t n = lonlat.size();
   const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
-  w.azimuth_deg.resize(edges);
-  w.sin_azimuth.resize(edges);
-  w.cos_azimuth.resize(edges);
-  w.edge_param.resize(edges);
+  w.resize(edges);
   RingSum sum;
   for (std::size_t e = 0; e < edges; ++e) {
     const Coord& a = lonlat[e];
@@ -212,10 +216,7 @@ std::optional<EllipsoidWalk> walk_short_edges(const detail::ShortGeodesics& meth
   if (!method.walk(lonlat, closed, scratch)) return std::nullopt;
   EllipsoidWalk w;
   const std::size_t edges = scratch.size();
-  w.azimuth_deg.resize(edges);
-  w.sin_azimuth.resize(edges);
-  w.cos_azimuth.resize(edges);
-  w.edge_param.resize(edges);
+  w.resize(edges);
   w.midpoint.resize(edges);
   RingSum sum;
   for (std::size_t e = 0; e < edges; ++e) {
@@ -325,12 +326,8 @@ class StraightWalker {
     RingSum sum_s, sum_p;
     on_source = EllipsoidWalk{};
     on_target = EllipsoidWalk{};
-    for (EllipsoidWalk* w : {&on_source, &on_target}) {
-      w->azimuth_deg.resize(edges);
-      w->sin_azimuth.resize(edges);
-      w->cos_azimuth.resize(edges);
-      w->edge_param.resize(edges);
-    }
+    on_source.resize(edges);
+    on_target.resize(edges);
     for (std::size_t e = 0; e < edges; ++e) {
       const std::size_t j = (e + 1) % n;
       const Coord c0 = c_xy[e], c1 = c_xy[j];
