@@ -5,7 +5,7 @@ set(GRIDTRUTH_DOCS_DIR ${PROJECT_BINARY_DIR}/docs)
 if(DOXYGEN_FOUND)
   file(GLOB GRIDTRUTH_PUBLIC_HEADERS CONFIGURE_DEPENDS ${PROJECT_SOURCE_DIR}/include/gridtruth/*.hpp)
   list(APPEND GRIDTRUTH_PUBLIC_HEADERS ${GRIDTRUTH_GENERATED_INCLUDE_DIR}/gridtruth/version.hpp
-     ${PROJECT_SOURCE_DIR}/docs/mainpage.dox ${PROJECT_SOURCE_DIR}/docs/header_gaps.dox)
+     ${PROJECT_SOURCE_DIR}/docs/mainpage.dox)
   string(REPLACE ";" " " GRIDTRUTH_DOXYGEN_INPUT "${GRIDTRUTH_PUBLIC_HEADERS}")
   configure_file(${PROJECT_SOURCE_DIR}/cmake/Doxyfile.in ${GRIDTRUTH_DOCS_DIR}/Doxyfile @ONLY)
   # The stamp is written only when Doxygen succeeds (Doxygen writes the HTML even when it fails on a warning), so

@@ -19,9 +19,10 @@ struct Ellipsoid {
 /// Geographic bounding box of a CRS's area of use, in degrees. west > east means it crosses the antimeridian.
 struct AreaOfUse {
   std::string name;  ///< the CRS database's description of the area
-  // west_deg, east_deg: longitudes in [-180, 180] (east_deg < west_deg across ±180°); south_deg, north_deg:
-  // latitudes in [-90, 90].
-  double west_deg = -180, south_deg = -90, east_deg = 180, north_deg = 90;
+  double west_deg = -180;  ///< western bound, degrees of longitude in [-180, 180]; above east_deg across ±180°
+  double south_deg = -90;  ///< southern bound, degrees of latitude in [-90, 90]
+  double east_deg = 180;   ///< eastern bound, degrees of longitude in [-180, 180]
+  double north_deg = 90;   ///< northern bound, degrees of latitude in [-90, 90]
 };
 
 /// The facts gridtruth needs about a CRS.

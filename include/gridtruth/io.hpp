@@ -39,7 +39,7 @@ InputFormat sniff_format(std::string_view head) noexcept;
 
 /// How a reader finds ids and geometries.
 struct ReaderOptions {
-  InputFormat format = InputFormat::automatic;
+  InputFormat format = InputFormat::automatic;  ///< the input's format; automatic sniffs the first bytes
   std::string id_field;         ///< GeoJSON property or CSV column used as id when a feature has no GeoJSON id
   std::string wkt_field = "wkt";  ///< CSV column that holds the WKT geometry (matched case-insensitively)
   /// GeoJSON property or CSV column holding each feature's ellipsoidal height in metres; empty: none. A feature
@@ -87,7 +87,9 @@ class FeatureReader {
   /// Opens `path` ("-" reads standard input). Throws Error(io) when the file cannot be opened.
   explicit FeatureReader(const std::string& path, ReaderOptions options = {});
   ~FeatureReader();
+  /// Moves; the moved-from reader may only be destroyed or assigned to.
   FeatureReader(FeatureReader&&) noexcept;
+  /// Moves; the moved-from reader may only be destroyed or assigned to.
   FeatureReader& operator=(FeatureReader&&) noexcept;
   FeatureReader(const FeatureReader&) = delete;
   FeatureReader& operator=(const FeatureReader&) = delete;
@@ -136,11 +138,13 @@ std::string csv_field(std::string_view text);
 /// cell. Lines end with CRLF (RFC 4180 section 2.1) unless another ending is given.
 class ResultCsvWriter {
  public:
+  /// Writes to `out`, which must outlive the writer, ending lines with `line_ending` (CRLF by default).
   explicit ResultCsvWriter(std::ostream& out, std::string line_ending = "\r\n");
   /// The column names, in order.
   static const std::vector<std::string>& columns();
   /// Adds a last column `combined_factor` (AuditResult::combined_factor), for audits with heights.
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
+  /// Writes the header row: the names of columns(), in order.
   void write_header();
   /// One audited feature.
   void write_row(std::string_view id, const AuditResult& result);
