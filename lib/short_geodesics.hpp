@@ -21,9 +21,12 @@
 // convention: the area between the edge and the equator, counter-clockwise).
 //
 // Where it applies (applies()): every vertex within kMaxLatitudeDeg of the equator and every chord between
-// kMinChordM and kMaxChordM. Measured against GeographicLib 2.1 over randomized polygons in every latitude band
-// (tests/short_edge_truth_test.cpp): areas within 1e-9 relative or 0.01 m², lengths within 1e-9 relative,
-// azimuths within 0.01″, midpoints within 1e-6 m. Anywhere else the caller solves the inverse problem.
+// kMinChordM and kMaxChordM. Tested against GeographicLib 2.1 over randomized polygons in every latitude band
+// (tests/short_edge_truth_test.cpp): areas within 1e-9 relative + 1e-3 m², lengths within 1e-9 relative + 1 nm,
+// bearing errors within 0.01″ and D within 1e-9 relative + 1e-3 m² of the inverse-problem path (which checks the
+// midpoints). Measured during development on 0.1 m to 4.9 km edges, f from 1/298 to 1/150: areas within 4e-4 m²,
+// lengths within 2e-9 relative, azimuths within 0.002″, midpoints within 5e-9 m of GeographicLib's. Anywhere
+// else the caller solves the inverse problem.
 #pragma once
 
 #include <GeographicLib/Math.hpp>
