@@ -1,7 +1,6 @@
 // The audit and the bare truth (GeographicLib's PolygonArea) as two plain loops over the same generated polygons,
 // for instruction counting with callgrind (repeatable whatever else the machine is doing; bench/instructions.sh).
 //   kernel_loops EDGE_M      (200 polygons of 32 vertices, 12 for edges of 100 km or more, in UTM zone 15N)
-#include <GeographicLib/PolygonArea.hpp>
 #include <gridtruth/audit.hpp>
 
 #include <cstdio>
@@ -12,16 +11,7 @@
 namespace {
 
 __attribute__((noinline)) double truth_loop(const std::vector<gridtruth::Geometry>& polygons) {
-  double sink = 0;
-  const GeographicLib::Geodesic& geod = GeographicLib::Geodesic::WGS84();
-  for (const auto& g : polygons) {
-    GeographicLib::PolygonArea area(geod);
-    for (const auto& c : g.polygons[0].outer) area.AddPoint(c.y, c.x);
-    double perimeter = 0, a = 0;
-    area.Compute(false, true, perimeter, a);
-    sink += a;
-  }
-  return sink;
+  return gridtruth::bench::bare_truth(polygons);
 }
 
 __attribute__((noinline)) double audit_loop(const gridtruth::Auditor& auditor,

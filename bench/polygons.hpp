@@ -2,6 +2,7 @@
 // UTM zone's band (seeded, so every run measures the same shapes).
 #pragma once
 
+#include <GeographicLib/PolygonArea.hpp>
 #include <gridtruth/geometry.hpp>
 
 #include <cmath>
@@ -32,6 +33,21 @@ inline std::vector<Geometry> polygons(std::size_t count, double edge_m, int vert
   out.reserve(count);
   for (std::size_t i = 0; i < count; ++i) out.push_back(regular_polygon(lon(rng), lat(rng), edge_m, vertices));
   return out;
+}
+
+/// The bare truth, the yardstick of the benchmarks: GeographicLib's PolygonArea (perimeter and signed area) of
+/// every polygon's outer ring on WGS 84; returns the sum of the areas.
+inline double bare_truth(const std::vector<Geometry>& polygons) {
+  const GeographicLib::Geodesic& geod = GeographicLib::Geodesic::WGS84();
+  double sink = 0;
+  for (const Geometry& g : polygons) {
+    GeographicLib::PolygonArea area(geod);
+    for (const Coord& c : g.polygons[0].outer) area.AddPoint(c.y, c.x);
+    double perimeter = 0, a = 0;
+    area.Compute(false, true, perimeter, a);
+    sink += a;
+  }
+  return sink;
 }
 
 }  // namespace gridtruth::bench
