@@ -137,6 +137,32 @@ TEST(ShortEdgeTruth, OtherEllipsoid) {
   }
 }
 
+// Across a datum change (NAD27 to NAD83, EPSG:4267 to EPSG:26915) the closed form also measures E_P on the
+// target's ellipsoid (GRS 80) from the transformed vertices: it must agree with the inverse-problem path there too.
+TEST(ShortEdgeTruth, TargetEllipsoidAfterADatumChange) {
+  std::mt19937_64 rng(test::test_seed());
+  AuditOptions o = options_for("EPSG:26915", true);
+  o.source_crs = "EPSG:4267";
+  const Auditor fast(o);
+  o.closed_form_short_edges = false;
+  const Auditor exact(o);
+  std::uniform_real_distribution<double> lon_d(-96, -90), lat_d(30, 48), log_edge(std::log(1.0), std::log(4000.0));
+  for (int trial = 0; trial < 30; ++trial) {
+    const Path ring = star(rng, lon_d(rng), lat_d(rng), std::exp(log_edge(rng)), 5 + trial);
+    const AuditResult r = fast.audit(Geometry::polygon(ring));
+    const AuditResult x = exact.audit(Geometry::polygon(ring));
+    ASSERT_EQ(r.status, Status::ok) << where(ring) << ": " << r.message;
+    ASSERT_EQ(x.status, Status::ok) << where(ring) << ": " << x.message;
+    ASSERT_NE(r.area->from_datum, 0.0) << where(ring);  // a datum change indeed
+    EXPECT_NEAR(r.area->ellipsoid_target, x.area->ellipsoid_target, 1e-9 * x.area->ellipsoid_target + 1e-3)
+        << where(ring);
+    EXPECT_NEAR(r.length->ellipsoid_target, x.length->ellipsoid_target,
+                1e-9 * x.length->ellipsoid_target + 1e-9) << where(ring);
+    EXPECT_NEAR(r.area->densified_grid, x.area->densified_grid, 1e-9 * x.area->densified_grid + 1e-3)
+        << where(ring);
+  }
+}
+
 // The screened distortion statistics equal the extremes of the factors at every vertex (on features whose edges
 // need no densification, the vertices are all the points): scales to the 1e-9 relative accuracy of the central
 // differences, angles to 1e-7°. Conformal, equal-area and neither, near and far from their standard lines.
