@@ -30,6 +30,7 @@
 #endif
 
 namespace {
+using gridtruth::test_files::parse_csv;
 using gridtruth::test_files::slurp;
 
 using namespace gridtruth;
@@ -345,20 +346,6 @@ CommandRun run(const std::string& args) {
   return r;
 }
 
-std::vector<std::vector<std::string>> csv_rows(const std::string& text) {
-  std::vector<std::vector<std::string>> rows;
-  std::istringstream in(text);
-  std::string line;
-  while (std::getline(in, line)) {
-    std::vector<std::string> fields;
-    std::istringstream f(line);
-    std::string field;
-    while (std::getline(f, field, ',')) fields.push_back(field);
-    if (!line.empty() && line.back() == ',') fields.emplace_back();
-    rows.push_back(fields);
-  }
-  return rows;
-}
 
 class CellsCommand : public ::testing::Test {
  protected:
@@ -372,7 +359,7 @@ class CellsCommand : public ::testing::Test {
 TEST_F(CellsCommand, GeographicGridCsv) {
   const CommandRun r = run("cells --grid-crs EPSG:4326 --origin 0,90 --pixel 1,-1 --size 3,180");
   ASSERT_EQ(r.status, 0) << r.err;
-  const auto rows = csv_rows(r.out);
+  const auto rows = parse_csv(r.out);
   ASSERT_EQ(rows.size(), 181u);
   EXPECT_EQ(rows[0], (std::vector<std::string>{"row_start", "row_end", "col_start", "col_end", "cells",
                                                 "true_area_m2", "nominal_area_m2", "ratio"}));
@@ -396,7 +383,7 @@ TEST_F(CellsCommand, ProjectedGridBlocks) {
                     "--block 64 --out " + out);
   ASSERT_EQ(r.status, 0) << r.err;
   EXPECT_EQ(r.out, "");
-  const auto rows = csv_rows(slurp(out));
+  const auto rows = parse_csv(slurp(out));
   std::remove(out.c_str());
   ASSERT_EQ(rows.size(), 1u + 4 * 2);
   std::uint64_t cells = 0;
@@ -448,7 +435,7 @@ TEST_F(CellsCommand, ClassAreasFromRawAndCounts) {
   for (const std::string& input : {raw, counts}) {
     const CommandRun r = run(grid_args + "--classes " + input);
     ASSERT_EQ(r.status, 0) << r.err;
-    const auto rows = csv_rows(r.out);
+    const auto rows = parse_csv(r.out);
     ASSERT_EQ(rows.size(), 4u) << r.out;
     EXPECT_EQ(rows[0], (std::vector<std::string>{"class", "cells", "true_area_m2", "naive_area_m2", "difference_m2",
                                                   "difference_pct"}));
@@ -480,7 +467,7 @@ TEST_F(CellsCommand, Uint16CodesOnAnEqualAreaGrid) {
                     "--classes " + raw);
   std::remove(raw.c_str());
   ASSERT_EQ(r.status, 0) << r.err;
-  const auto rows = csv_rows(r.out);
+  const auto rows = parse_csv(r.out);
   ASSERT_EQ(rows.size(), 3u);
   EXPECT_EQ(rows[1][0], "300");
   EXPECT_EQ(rows[1][1], "3");
@@ -520,7 +507,7 @@ TEST_F(CellsCommand, GeoTiffClassesTakeTheFilesGrid) {
   write_geotiff(tif, GDT_Byte, 4326, gt, 4, 3, {1, 1, 2, 7, 2, 2, 2, 7, 1, 9, 9, 9}, 9.0);
   const CommandRun r = run("cells --classes " + tif);
   ASSERT_EQ(r.status, 0) << r.err;
-  const auto rows = csv_rows(r.out);
+  const auto rows = parse_csv(r.out);
   ASSERT_EQ(rows.size(), 4u) << r.out;
   const double a12 = t::quadrangle_area_m2(t::wgs84, 1, 2, 1);
   const double a01 = t::quadrangle_area_m2(t::wgs84, 0, 1, 1);
@@ -548,7 +535,7 @@ TEST_F(CellsCommand, GeoTiffProjectedAndRefusals) {
   write_geotiff(tif, GDT_UInt16, 6933, gt, 2, 2, {300, 300, 301, 300}, std::nullopt);
   const CommandRun r = run("cells --classes " + tif);
   ASSERT_EQ(r.status, 0) << r.err;
-  const auto rows = csv_rows(r.out);
+  const auto rows = parse_csv(r.out);
   ASSERT_EQ(rows.size(), 3u) << r.out;
   EXPECT_EQ(rows[1][0], "300");
   EXPECT_NEAR(std::stod(rows[1][2]) / 750000, 1, 1e-9);

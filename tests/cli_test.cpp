@@ -23,6 +23,7 @@ namespace {
 using gridtruth::test_files::slurp;
 using gridtruth::test_files::spit;
 using gridtruth::test_files::shell_quote;
+using gridtruth::test_files::parse_csv;
 
 using ::testing::HasSubstr;
 using ::testing::StartsWith;
@@ -48,49 +49,6 @@ const std::vector<std::string> contract_columns = {
 
 
 
-/// An RFC 4180 parser written for the tests (independent of the library's reader): records of fields.
-std::vector<std::vector<std::string>> parse_csv(const std::string& text) {
-  std::vector<std::vector<std::string>> rows;
-  std::vector<std::string> row;
-  std::string field;
-  bool quoted = false, any = false;
-  for (std::size_t k = 0; k < text.size(); ++k) {
-    const char c = text[k];
-    if (quoted) {
-      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') {
-        field += '"';
-        ++k;
-      } else if (c == '"') {
-        quoted = false;
-      } else {
-        field += c;
-      }
-      continue;
-    }
-    any = true;
-    if (c == '"') {
-      quoted = true;
-    } else if (c == ',') {
-      row.push_back(field);
-      field.clear();
-    } else if (c == '\r' && k + 1 < text.size() && text[k + 1] == '\n') {
-      // CRLF ends the record (RFC 4180 section 2.1); the LF is handled next.
-    } else if (c == '\n') {
-      row.push_back(field);
-      field.clear();
-      rows.push_back(row);
-      row.clear();
-      any = false;
-    } else {
-      field += c;
-    }
-  }
-  if (any) {
-    row.push_back(field);
-    rows.push_back(row);
-  }
-  return rows;
-}
 
 struct CliRun {
   int status = -1;

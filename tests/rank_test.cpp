@@ -21,6 +21,7 @@
 #include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::parse_csv;
 using gridtruth::test_files::slurp;
 
 using namespace gridtruth;
@@ -338,30 +339,6 @@ CliRun run(const std::string& args, const std::string& dir) {
   return r;
 }
 
-std::vector<std::vector<std::string>> csv_rows(const std::string& text) {  // simple RFC 4180 split
-  std::vector<std::vector<std::string>> rows(1);
-  std::string field;
-  bool quoted = false;
-  for (std::size_t k = 0; k < text.size(); ++k) {
-    const char c = text[k];
-    if (quoted) {
-      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') field += '"', ++k;
-      else if (c == '"') quoted = false;
-      else field += c;
-    } else if (c == '"') {
-      quoted = true;
-    } else if (c == ',') {
-      rows.back().push_back(field), field.clear();
-    } else if (c == '\n') {
-      rows.back().push_back(field), field.clear();
-      rows.emplace_back();
-    } else if (c != '\r') {
-      field += c;
-    }
-  }
-  if (rows.back().empty()) rows.pop_back();
-  return rows;
-}
 
 class RankCli : public ::testing::Test {
  protected:
@@ -389,7 +366,7 @@ TEST_F(RankCli, WritesTheRankingCsvAndExitsZero) {
                     dir_);
   ASSERT_EQ(r.status, 0) << r.err;
   EXPECT_NE(r.out.find("worst_ppm"), std::string::npos);
-  const auto rows = csv_rows(slurp(dir_ + "/rank.csv"));
+  const auto rows = parse_csv(slurp(dir_ + "/rank.csv"));
   ASSERT_EQ(rows.size(), 5u);
   const std::vector<std::string> header = {"crs", "name", "kind", "metric", "worst_ppm", "p95_ppm", "pass_share",
                                            "inside_area_of_use", "definition"};

@@ -28,6 +28,7 @@
 #include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::parse_csv;
 using gridtruth::test_files::slurp;
 using gridtruth::test_files::spit;
 using gridtruth::test_files::shell_quote;
@@ -463,32 +464,6 @@ class ReportCliTest : public ReportTest {
   }
 };
 
-/// An RFC 4180 parser written for the tests: records of fields.
-std::vector<std::vector<std::string>> parse_csv(const std::string& text) {
-  std::vector<std::vector<std::string>> rows(1);
-  std::string field;
-  bool quoted = false;
-  for (std::size_t k = 0; k < text.size(); ++k) {
-    const char c = text[k];
-    if (quoted) {
-      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') field += '"', ++k;
-      else if (c == '"') quoted = false;
-      else field += c;
-    } else if (c == '"') {
-      quoted = true;
-    } else if (c == ',') {
-      rows.back().push_back(field), field.clear();
-    } else if (c == '\r') {
-    } else if (c == '\n') {
-      rows.back().push_back(field), field.clear();
-      rows.emplace_back();
-    } else {
-      field += c;
-    }
-  }
-  if (rows.back().empty()) rows.pop_back();
-  return rows;
-}
 
 TEST_F(ReportCliTest, GeojsonCarriesEveryCsvColumnAndTheCoordinatesAsRead) {
   const int status = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.1%", "--out",

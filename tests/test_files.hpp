@@ -1,9 +1,10 @@
-// Test helpers shared by the end-to-end tests: whole files in and out, and quoting for /bin/sh.
+// Test helpers shared by the end-to-end tests: whole files in and out, quoting for /bin/sh, reading CSV.
 #pragma once
 
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <vector>
 
 namespace gridtruth::test_files {
 
@@ -29,6 +30,51 @@ inline std::string shell_quote(const std::string& s) {
     else q += c;
   }
   return q + "'";
+}
+
+/// An RFC 4180 parser written for the tests (independent of the library's reader): records of fields. A CRLF or
+/// LF ends a record (section 2.1); quoted fields may hold commas, quotes (doubled) and line breaks.
+inline std::vector<std::vector<std::string>> parse_csv(const std::string& text) {
+  std::vector<std::vector<std::string>> rows;
+  std::vector<std::string> row;
+  std::string field;
+  bool quoted = false, any = false;
+  for (std::size_t k = 0; k < text.size(); ++k) {
+    const char c = text[k];
+    if (quoted) {
+      if (c == '"' && k + 1 < text.size() && text[k + 1] == '"') {
+        field += '"';
+        ++k;
+      } else if (c == '"') {
+        quoted = false;
+      } else {
+        field += c;
+      }
+      continue;
+    }
+    any = true;
+    if (c == '"') {
+      quoted = true;
+    } else if (c == ',') {
+      row.push_back(field);
+      field.clear();
+    } else if (c == '\r' && k + 1 < text.size() && text[k + 1] == '\n') {
+      // CRLF ends the record (RFC 4180 section 2.1); the LF is handled next.
+    } else if (c == '\n') {
+      row.push_back(field);
+      field.clear();
+      rows.push_back(row);
+      row.clear();
+      any = false;
+    } else {
+      field += c;
+    }
+  }
+  if (any) {
+    row.push_back(field);
+    rows.push_back(row);
+  }
+  return rows;
 }
 
 }  // namespace gridtruth::test_files
