@@ -35,14 +35,6 @@ struct RankArgs {
 
 std::string cell(double v) { return std::isfinite(v) ? format_number(v) : ""; }
 
-std::string fixed(double v, int decimals) {
-  if (std::isnan(v)) return "-";
-  if (std::isinf(v)) return "inf";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  return buf;
-}
-
 std::string inside_text(const std::optional<bool>& inside) { return inside ? (*inside ? "true" : "false") : ""; }
 
 int run_rank(const RankArgs& a) {
@@ -132,10 +124,7 @@ Command set_up(CLI::App& tool) {
   app->add_option("--tolerance", args->tolerance, "limits for the pass share, e.g. area=0.1%,length=1:10000");
   app->add_option("--top", args->top, "candidates listed")->capture_default_str();
   app->add_option("--out", args->out, "also write the ranking as CSV to this file");
-  app->add_option("--format", args->format, "input format: auto, geojson, ndjson, csv")->capture_default_str();
-  app->add_option("--wkt-field", args->wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
-  app->add_option("--height-field", args->height_field,
-                  "property or column holding each feature's ellipsoidal height in metres");
+  add_reading_options(app, args->format, args->wkt_field, args->height_field, "");
   app->add_option("--sample", args->sample,
                   "above this many features the leaders are audited on a reproducible sample of this size")
       ->capture_default_str();

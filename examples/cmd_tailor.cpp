@@ -27,14 +27,6 @@ struct TailorArgs {
   unsigned threads = 0;
 };
 
-std::string fixed(double v, int decimals) {
-  if (std::isnan(v)) return "-";
-  if (std::isinf(v)) return "inf";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  return buf;
-}
-
 void print_audit(std::ostream& o, const RankedCrs& r) {
   o << "  worst " << fixed(r.worst_ppm, 3) << " ppm, 95th percentile " << fixed(r.p95_ppm, 3) << " ppm over "
     << r.features << " features";
@@ -110,11 +102,7 @@ Command set_up(CLI::App& tool) {
   app->add_option("--source-crs", args->source_crs, "geographic CRS of the input (longitude, latitude)")
       ->capture_default_str();
   app->add_option("--tolerance", args->tolerance, "limits for the pass share, e.g. length=1:100000");
-  app->add_option("--format", args->format, "input format: auto, geojson, ndjson, csv")->capture_default_str();
-  app->add_option("--wkt-field", args->wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
-  app->add_option("--height-field", args->height_field,
-                  "property or column holding each feature's ellipsoidal height in metres (fits a ground "
-                  "projection)");
+  add_reading_options(app, args->format, args->wkt_field, args->height_field, " (fits a ground projection)");
   app->add_flag("--no-compare", args->no_compare, "skip ranking the database's CRSs for the comparison");
   app->add_option("--threads", args->threads, "worker threads; 0 uses every hardware thread")->capture_default_str();
   app->footer(std::string("\nThe parameters minimise the worst |ppm| of the metric over distortion factors at sample "

@@ -1,6 +1,11 @@
-// gridtruth command — reading a whole input for `rank` and `tailor` (they need every feature at once).
+// gridtruth command — reading a whole input for `rank` and `tailor` (they need every feature at once), and what
+// else the two commands share.
 #pragma once
 
+#include <CLI/CLI.hpp>
+
+#include <cmath>
+#include <cstdio>
 #include <string>
 #include <utility>
 #include <vector>
@@ -35,6 +40,25 @@ inline LoadedFeatures load_features(const std::string& input, const std::string&
     if (!height_field.empty()) out.heights_m.push_back(f->height_m.value_or(0.0));
   }
   return out;
+}
+
+/// The options that say how to read the input: --format, --wkt-field and --height-field (its help text followed
+/// by `height_note`).
+inline void add_reading_options(CLI::App* app, std::string& format, std::string& wkt_field,
+                                std::string& height_field, const std::string& height_note) {
+  app->add_option("--format", format, "input format: auto, geojson, ndjson, csv")->capture_default_str();
+  app->add_option("--wkt-field", wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
+  app->add_option("--height-field", height_field,
+                  "property or column holding each feature's ellipsoidal height in metres" + height_note);
+}
+
+/// A number with a fixed count of decimals for the text reports; "-" for NaN, "inf" for infinities.
+inline std::string fixed(double v, int decimals) {
+  if (std::isnan(v)) return "-";
+  if (std::isinf(v)) return "inf";
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
+  return buf;
 }
 
 }  // namespace gridtruth::cli
