@@ -1097,14 +1097,17 @@ void write_position(std::ostream& o, const Coord& c) {
   const std::string x = format_number(c.x), y = format_number(c.y);
   o << '[' << (x.empty() ? "null" : x) << ',' << (y.empty() ? "null" : y) << ']';
 }
-void write_path(std::ostream& o, const Path& p) {
+/// A JSON array of the items, each written by `write`.
+template <class T, class Write>
+void write_array(std::ostream& o, const std::vector<T>& items, Write write) {
   o << '[';
-  for (std::size_t k = 0; k < p.size(); ++k) {
+  for (std::size_t k = 0; k < items.size(); ++k) {
     if (k) o << ',';
-    write_position(o, p[k]);
+    write(o, items[k]);
   }
   o << ']';
 }
+void write_path(std::ostream& o, const Path& p) { write_array(o, p, write_position); }
 void write_polygon(std::ostream& o, const Polygon& p) {
   o << '[';
   write_path(o, p.outer);
@@ -1124,26 +1127,12 @@ void write_geometry(std::ostream& o, const Geometry& g) {
       if (g.lines.empty()) o << "[]";
       else write_path(o, g.lines[0]);
       break;
-    case GeometryType::multi_line_string:
-      o << '[';
-      for (std::size_t k = 0; k < g.lines.size(); ++k) {
-        if (k) o << ',';
-        write_path(o, g.lines[k]);
-      }
-      o << ']';
-      break;
+    case GeometryType::multi_line_string: write_array(o, g.lines, write_path); break;
     case GeometryType::polygon:
       if (g.polygons.empty()) o << "[]";
       else write_polygon(o, g.polygons[0]);
       break;
-    case GeometryType::multi_polygon:
-      o << '[';
-      for (std::size_t k = 0; k < g.polygons.size(); ++k) {
-        if (k) o << ',';
-        write_polygon(o, g.polygons[k]);
-      }
-      o << ']';
-      break;
+    case GeometryType::multi_polygon: write_array(o, g.polygons, write_polygon); break;
   }
   o << '}';
 }
