@@ -20,7 +20,7 @@
 // The sum over a ring is reduced exactly as GeographicLib's PolygonArea reduces its S12 terms (the same sign
 // convention: the area between the edge and the equator, counter-clockwise).
 //
-// Where it applies (applies()): every vertex within kMaxLatitudeDeg of the equator and every chord between
+// Where it applies (checked by walk()): every vertex within kMaxLatitudeDeg of the equator and every chord between
 // kMinChordM and kMaxChordM. Tested against GeographicLib 2.1 over randomized polygons in every latitude band
 // (tests/short_edge_truth_test.cpp): areas within 1e-9 relative + 1e-3 m², lengths within 1e-9 relative + 1 nm,
 // bearing errors within 0.01″ and D within 1e-9 relative + 1e-3 m² of the inverse-problem path (which checks the
@@ -57,12 +57,6 @@ class ShortGeodesics {
       : a_(a_m), e2_(f * (2 - f)), e_(std::sqrt(std::fabs(e2_))), b_(a_m * (1 - f)), ep2_(e2_ / (1 - e2_)),
         qp_(q(1.0)), rq2_(a_m * a_m * qp_ / 2) {}
 
-  /// True when every vertex is within kMaxLatitudeDeg of the equator (the edges' lengths are checked by walk()).
-  bool vertices_apply(const std::vector<Coord>& lonlat) const {
-    return std::all_of(lonlat.begin(), lonlat.end(),
-                       [](const Coord& c) { return std::fabs(c.y) <= kMaxLatitudeDeg && std::fabs(c.x) <= 540; });
-  }
-
   /// Measures every edge of a path (closed: the last vertex joins the first). Returns false, with `out` in an
   /// unspecified state, when a chord is out of [kMinChordM, kMaxChordM] or a vertex out of range.
   bool walk(const std::vector<Coord>& lonlat, bool closed, std::vector<Edge>& out) const {
@@ -78,10 +72,13 @@ class ShortGeodesics {
     return true;
   }
 
-  /// The ellipsoid's area, m² (4π R_q²).
-  double ellipsoid_area() const { return 4 * M_PI * rq2_; }
-
  private:
+  /// True when every vertex is within kMaxLatitudeDeg of the equator (the edges' lengths are checked by edge()).
+  static bool vertices_apply(const std::vector<Coord>& lonlat) {
+    return std::all_of(lonlat.begin(), lonlat.end(),
+                       [](const Coord& c) { return std::fabs(c.y) <= kMaxLatitudeDeg && std::fabs(c.x) <= 540; });
+  }
+
   struct Vertex {
     double sphi, cphi, w;      // sin, cos of latitude; √(1 − e² sin²φ)
     double sbeta, cbeta, t;    // authalic latitude: sin, cos, tan(β/2)
