@@ -947,10 +947,10 @@ std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord
   // A small feature: every point. Otherwise the points are screened. The factors vary smoothly over a feature, so
   // each statistic is modelled as a quadratic in local east and north (least squares over the anchors: the points
   // extreme in eight directions); ρ is the model's largest residual at the anchors. A point can hold an extreme
-  // only if its modelled value is within 4ρ of the modelled extreme; those candidates are evaluated exactly, and
-  // the statistics are the extremes over every point evaluated. A statistic whose anchors span less than its
-  // accuracy (kFlat) needs no candidates. When the candidates are more than half of the points, every point is
-  // evaluated. Large features (more than kMaxSamples points) are first thinned to the points extreme in
+  // only if its modelled value is within 4ρ (plus the statistic's accuracy, kFlat) of the modelled extreme; those
+  // candidates are evaluated exactly, and the statistics are the extremes over every point evaluated. A statistic
+  // whose anchors span less than its accuracy needs no candidates. When anchors and candidates are more than half
+  // of the points, every point is evaluated. Large features (more than kMaxSamples points) are first thinned to the points extreme in
   // longitude and latitude plus evenly spaced others.
   constexpr std::size_t kMaxSamples = 64;
   constexpr std::size_t kEvery = 10;
@@ -1093,15 +1093,10 @@ std::optional<Distortion> Auditor::Impl::distortion_over(const std::vector<Coord
       if (!done[i] && !candidate[i] && kSense[ch] * (best - model[i]) <= band) candidate[i] = 1, ++candidates;
     }
   }
+  const bool every = 2 * (candidates + anchors.size()) > n;  // screening saves too little: every point
   std::vector<Coord> rest;
-  if (2 * (candidates + anchors.size()) > n) {
-    for (std::size_t i = 0; i < n; ++i) {
-      if (!done[i]) rest.push_back(pool[i]);
-    }
-  } else {
-    for (std::size_t i = 0; i < n; ++i) {
-      if (candidate[i]) rest.push_back(pool[i]);
-    }
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!done[i] && (every || candidate[i])) rest.push_back(pool[i]);
   }
   take(factors_batch(rest));
   return result();
