@@ -5,8 +5,12 @@
 #include <cmath>
 #include <cstring>
 #include <fstream>
-#include <iostream>
+#include <istream>
+#include <streambuf>
 #include <utility>
+#include <vector>
+
+#include <unistd.h>
 
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
@@ -116,8 +120,40 @@ InputFormat sniff_format(std::string_view head) noexcept {
   return InputFormat::geojson;
 }
 
+namespace {
+
+/// Standard input read straight from file descriptor 0, never through std::cin: std::cin is tied to std::cout, so
+/// every read of it flushes std::cout, and run_audit reads on a pipeline thread while the caller's sink writes
+/// std::cout on another one -- a data race that duplicated, tore and lost rows of `gridtruth audit -` (issue 17).
+class StdinBuffer final : public std::streambuf {
+ public:
+  StdinBuffer() : buffer_(1 << 16) {}
+
+ protected:
+  int_type underflow() override {
+    if (gptr() < egptr()) return traits_type::to_int_type(*gptr());
+    ssize_t got;
+    do {
+      got = ::read(STDIN_FILENO, buffer_.data(), buffer_.size());
+    } while (got < 0 && errno == EINTR);
+    if (got <= 0) return traits_type::eof();  // end of input, or an error (the reader reports what it got)
+    setg(buffer_.data(), buffer_.data(), buffer_.data() + got);
+    return traits_type::to_int_type(*gptr());
+  }
+
+ private:
+  std::vector<char> buffer_;
+};
+
+struct StdinStream final : std::istream {
+  StdinStream() : std::istream(nullptr) { rdbuf(&buffer); }
+  StdinBuffer buffer;
+};
+
+}  // namespace
+
 struct FeatureReader::Impl {
-  std::unique_ptr<std::ifstream> file;
+  std::unique_ptr<std::istream> file;
   detail::Source source;
   ReaderOptions options;
   InputFormat format = InputFormat::automatic;
@@ -125,12 +161,14 @@ struct FeatureReader::Impl {
   std::size_t count = 0;
   bool done = false;
 
-  Impl(std::istream& in, ReaderOptions o, std::unique_ptr<std::ifstream> f = nullptr)
+  Impl(std::istream& in, ReaderOptions o, std::unique_ptr<std::istream> f = nullptr)
       : file(std::move(f)), source(in), options(std::move(o)) {}
 };
 
 FeatureReader::FeatureReader(std::istream& in, ReaderOptions options)
-    : impl_(std::make_unique<Impl>(in, std::move(options))) {}
+    : impl_(std::make_unique<Impl>(in, std::move(options))) {
+  in.tie(nullptr);  // a tied stream would be flushed from the reading thread (see StdinBuffer)
+}
 
 namespace {
 std::unique_ptr<std::ifstream> open_file(const std::string& path) {
@@ -142,7 +180,9 @@ std::unique_ptr<std::ifstream> open_file(const std::string& path) {
 
 FeatureReader::FeatureReader(const std::string& path, ReaderOptions options) {
   if (path == "-") {
-    impl_ = std::make_unique<Impl>(std::cin, std::move(options));
+    auto in = std::make_unique<StdinStream>();
+    std::istream& stream = *in;
+    impl_ = std::make_unique<Impl>(stream, std::move(options), std::move(in));
   } else {
     auto file = open_file(path);
     std::istream& in = *file;

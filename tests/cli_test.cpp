@@ -497,6 +497,50 @@ TEST_F(CliTest, ThreadsKeepInputOrderAndResults) {
   expect_unusable(audit({demo_geojson, "--crs", "EPSG:32615", "--threads", "many"}), "--threads");
 }
 
+TEST_F(CliTest, StandardInputToStandardOutputLosesNoRowAtAnyThreadCount) {
+  // Regression (issue 17, 2026-12-02): std::cin was tied to std::cout, so the reader thread flushed std::cout while
+  // the writer wrote it; `cat x.ndjson | gridtruth audit -` gave 100 248 rows for 10^5 features, duplicated, torn
+  // and missing ones, with exit status 0. Every feature read yields exactly one row, in input order (DESIGN.md).
+  constexpr int features = 100000;
+  std::string text;
+  text.reserve(features * 200);
+  for (int k = 0; k < features; ++k) {
+    const double lon = -95.5 + 0.9 * (k % 1000) / 1000.0, lat = 44.0 + 0.9 * (k / 1000) / 100.0;
+    char line[300];
+    std::snprintf(line, sizeof line,
+                  R"({"type":"Feature","id":"f%d","properties":{},"geometry":{"type":"Polygon","coordinates":)"
+                  R"([[[%.6f,%.6f],[%.6f,%.6f],[%.6f,%.6f],[%.6f,%.6f],[%.6f,%.6f]]]}})"
+                  "\n",
+                  k, lon, lat, lon + 0.001, lat, lon + 0.001, lat + 0.001, lon, lat + 0.001, lon, lat);
+    text += line;
+  }
+  spit(path("in.ndjson"), text);
+  std::string first_output;
+  for (const char* threads : {"1", "2", "4"}) {
+    SCOPED_TRACE(std::string("--threads ") + threads);
+    // A pipe in and standard output out, as a user's shell pipeline has them.
+    const std::string cmd = "cat " + shell_quote(path("in.ndjson")) + " | " + shell_quote(cli) +
+                            " audit - --crs EPSG:32615 --threads " + threads + " > " + shell_quote(path("out.csv")) +
+                            " 2> " + shell_quote(path("err.txt"));
+    const int raw = std::system(cmd.c_str());
+    ASSERT_TRUE(WIFEXITED(raw));
+    EXPECT_EQ(WEXITSTATUS(raw), 0) << slurp(path("err.txt"));
+    const std::string out = slurp(path("out.csv"));
+    const auto rows = parse_csv(out);
+    ASSERT_EQ(rows.size(), static_cast<std::size_t>(features) + 1);
+    int wrong_id = 0, torn = 0;
+    for (int k = 0; k < features; ++k) {
+      const auto& row = rows[static_cast<std::size_t>(k) + 1];
+      if (row.size() != rows[0].size()) ++torn;
+      if (row.empty() || row[0] != "f" + std::to_string(k)) ++wrong_id;
+    }
+    EXPECT_EQ(torn, 0);
+    EXPECT_EQ(wrong_id, 0);
+    if (first_output.empty()) first_output = out;
+    else EXPECT_TRUE(out == first_output) << "rows differ from those of one thread";
+  }
+}
+
 TEST_F(CliTest, HeightLiftsTheTruthByTheGaussianRadius) {
   // DESIGN.md / common practice: area × (1 + h/R_G)², with R_G = √(M·N) between 6.33e6 m and 6.40e6 m on
   // WGS 84 at any latitude.

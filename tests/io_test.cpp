@@ -104,6 +104,16 @@ const char* rfc7946_example = R"({
        }]
    })";
 
+TEST(FeatureReaderStdin, UntiesTheStreamItReads) {
+  // Regression (issue 17): run_audit reads on a worker thread; a stream tied to the caller's output (std::cin is
+  // tied to std::cout by the standard) would flush that output from the reading thread: a data race.
+  std::ostringstream sink;
+  std::istringstream in("{\"type\":\"FeatureCollection\",\"features\":[]}");
+  in.tie(&sink);
+  const gridtruth::FeatureReader reader(in);
+  EXPECT_EQ(in.tie(), nullptr);
+}
+
 TEST(GeoJsonReader, Rfc7946Section1_5ExampleCollection) {
   const auto fs = read_all(rfc7946_example);
   ASSERT_EQ(fs.size(), 3u);

@@ -82,9 +82,11 @@ struct RawFeature {
 /// may run on any number of threads at once, also while another thread calls next_raw().
 class FeatureReader {
  public:
-  /// Reads from `in`, which must outlive the reader.
+  /// Reads from `in`, which must outlive the reader. Unties `in` (`in.tie(nullptr)`): run_audit reads on a worker
+  /// thread, and a tied stream would flush its tie (std::cin flushes std::cout) from there while the caller writes.
   explicit FeatureReader(std::istream& in, ReaderOptions options = {});
-  /// Opens `path` ("-" reads standard input). Throws Error(io) when the file cannot be opened.
+  /// Opens `path` ("-" reads standard input from file descriptor 0 directly, not through std::cin, so nothing is
+  /// flushed or shared with std::cout). Throws Error(io) when the file cannot be opened.
   explicit FeatureReader(const std::string& path, ReaderOptions options = {});
   ~FeatureReader();
   /// Moves; the moved-from reader may only be destroyed or assigned to.
