@@ -136,8 +136,8 @@ Integrals integrals(const Rule& r, const std::vector<Coord>& xy) {
       dyl += dl[j] * py;
     }
     const double w = r.weight[i];
-    out.length += w * std::hypot(dx, dy);
-    out.length_low += w * std::hypot(dxl, dyl);
+    out.length += w * std::sqrt(dx * dx + dy * dy);  // no overflow at plane coordinates
+    out.length_low += w * std::sqrt(dxl * dxl + dyl * dyl);
     // t runs from +1 (P0) to −1 (P1): the integral from P0 to P1 is minus the one over [−1, 1].
     out.bulge2 -= w * (x * dy - y * dx);
     out.bulge2_low -= w * (xl * dyl - yl * dxl);
@@ -191,8 +191,8 @@ EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double leng
       fresh_.push_back(curve(0.5 * length_param * (1 - t)));
       index_.push_back(j);
     }
+    const std::size_t at = samples.size();
     samples.insert(samples.end(), fresh_.begin(), fresh_.end());
-    lonlat_ = fresh_;
     if (!fresh_.empty()) {
       proj_trans_generic(op, PJ_FWD, &fresh_[0].x, sizeof(Coord), fresh_.size(), &fresh_[0].y, sizeof(Coord),
                          fresh_.size(), nullptr, 0, 0, nullptr, 0, 0);
@@ -200,7 +200,7 @@ EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double leng
     res.points += fresh_.size();
     res.order = n;
     for (std::size_t k = 0; k < fresh_.size(); ++k) {
-      if (!finite(lonlat_[k]) || !finite(fresh_[k])) return res;
+      if (!finite(samples[at + k]) || !finite(fresh_[k])) return res;
       xy_[index_[k]] = fresh_[k];
     }
     const Integrals q = integrals(rule_of(n), xy_);

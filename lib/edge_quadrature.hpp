@@ -65,7 +65,7 @@ class EdgeQuadrature {
   static constexpr double kRate = 0.3;
 
  private:
-  std::vector<Coord> lonlat_, xy_, fresh_, scratch_;  // nodes j = 0..n of the current order; scratch
+  std::vector<Coord> xy_, fresh_, scratch_;  // nodes j = 0..n of the current order; new nodes; scratch
   std::vector<std::size_t> index_;
 };
 
