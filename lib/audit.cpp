@@ -16,6 +16,7 @@
 
 #include "gridtruth/error.hpp"
 #include "compensated_sum.hpp"
+#include "edge_quadrature.hpp"
 #include "proj_handles.hpp"
 #include "short_geodesics.hpp"
 
@@ -450,10 +451,10 @@ class PathDensifier {
   /// geographic CRS; NaN where it cannot be computed.
   using Curve = std::function<Coord(double s)>;
 
-  PathDensifier(PJ* op, double tolerance_units, const WorkPath& path, std::size_t path_index,
+  PathDensifier(PJ* op, double tolerance_units, double radius_units, const WorkPath& path, std::size_t path_index,
                 std::vector<Coord>& samples, std::size_t& densified)
-      : op_(op), tolerance_(tolerance_units), path_(path), path_index_(path_index), samples_(samples),
-        densified_(densified), origin_(path.xy.front()) {}
+      : op_(op), tolerance_(tolerance_units), radius_(radius_units), path_(path), path_index_(path_index),
+        samples_(samples), densified_(densified), origin_(path.xy.front()) {}
 
   /// Densifies edge e → j, the curve over parameters [0, length], whose point at length/2 is `mid_lonlat`,
   /// projected to `mid_xy` (computed beforehand, all edges of a path at once); returns a failure message.
@@ -477,7 +478,31 @@ class PathDensifier {
     const Coord pm = finite(mid_lonlat) ? mid_xy : Coord{kNaN, kNaN};
     if (!finite(pm)) return failure("cannot be projected to the target CRS");
     bool first = true;
-    stack_.assign(1, Piece{0.0, edge_m, path_.xy[e], path_.xy[j], pm});
+    const Coord p0 = path_.xy[e], p1 = path_.xy[j];
+    if (deviation(p0, pm, p1) > tolerance_ && std::isfinite(deviation(p0, pm, p1))) {
+      // A smooth image that bends by more than the tolerance: the line integrals by quadrature
+      // (edge_quadrature.hpp), when they converge; else the adaptive densification below.
+      samples_.push_back(first_midpoint_);
+      first = false;
+      const double c = chord(p0, p1);
+      const detail::EdgeQuadrature::Result q =
+          quadrature_.integrate(curve, edge_m, p0, pm, p1, mid_lonlat, op_, radius_, kQuadratureShare * tolerance_,
+                                kQuadratureShare * tolerance_ * c, samples_);
+      densified_ += q.points;
+      if (q.accepted) {
+        length_.add(q.length);
+        length_error_.add(q.length_error);
+        ++quadrature_edges_;
+        order_sum_ += q.order;
+        if (path_.closed()) {
+          area2_.add(cross(p0.x - origin_.x, p0.y - origin_.y, p1.x - origin_.x, p1.y - origin_.y));
+          area2_.add(q.bulge2);
+          area_error_.add(q.area_error);
+        }
+        return {};
+      }
+    }
+    stack_.assign(1, Piece{0.0, edge_m, p0, p1, pm});
     while (!stack_.empty()) {
       const Piece piece = stack_.back();
       stack_.pop_back();
@@ -525,6 +550,11 @@ class PathDensifier {
 
   double length_units() const { return length_.value(); }
   double area2_units() const { return area2_.value(); }
+  /// Sums of the quadrature's error estimates (edge_quadrature.hpp) over the edges it measured.
+  double quadrature_length_error_units() const { return length_error_.value(); }
+  double quadrature_area_error_units2() const { return area_error_.value(); }
+  std::size_t quadrature_edges() const { return quadrature_edges_; }
+  double mean_order() const { return quadrature_edges_ ? double(order_sum_) / quadrature_edges_ : 0; }
 
  private:
   struct Piece {
@@ -574,6 +604,7 @@ class PathDensifier {
 
   PJ* op_;
   double tolerance_;
+  double radius_;  // the Earth's radius (target ellipsoid's a) in the target's unit, for the quadrature's order
   const WorkPath& path_;
   std::size_t path_index_;
   std::vector<Coord>& samples_;
@@ -584,6 +615,12 @@ class PathDensifier {
   Coord first_midpoint_;
   std::vector<Piece> stack_;
   CompensatedSum length_, area2_;
+  // The quadrature's targets per edge, as a share of the densify tolerance δ: length δ·share, area δ·share·chord.
+  static constexpr double kQuadratureShare = 1e-2;
+  detail::EdgeQuadrature quadrature_;
+  CompensatedSum length_error_, area_error_;
+  std::size_t quadrature_edges_ = 0;
+  long order_sum_ = 0;
 };
 
 }  // namespace
@@ -1338,7 +1375,8 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     g_length.add(path_g_length);
     if (path.closed()) g_area2[i] = planar_area2(path.xy);
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
-    PathDensifier densifier(op_fast.get(), tolerance_units, path, i, samples, densified);
+    PathDensifier densifier(op_fast.get(), tolerance_units, target.ellipsoid.a_m / unit_m, path, i, samples,
+                            densified);
     const std::size_t edge_count = path.edge_count();
     // The true edge e as a curve over [0, edge_param[e]]; a geodesic line is only set up when it is followed.
     std::optional<GeographicLib::GeodesicLine> geodesic;

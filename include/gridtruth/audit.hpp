@@ -56,7 +56,10 @@ struct AuditOptions {
   std::string target_crs;                ///< projected CRS whose grid is audited; required
   double height_m = 0;                   ///< ellipsoidal height of the features (ground lift), unless audit() is
                                          ///< given one per feature; within [-10 000 m, 100 000 m]
-  double densify_tolerance_m = 0.001;    ///< largest planar deviation of a densified edge from the true edge
+  /// An edge whose projected midpoint lies within this distance of its chord is taken as a parabola; any other
+  /// edge is integrated by quadrature until its error estimate is within 1/100 of it in length and 1/100 of it
+  /// times the chord in area (Budget::densified_grid).
+  double densify_tolerance_m = 0.001;
   std::vector<Tolerance> tolerances;     ///< limits for the verdict; empty → no verdict
   /// What edges mean. Absent: geodesic for a geographic source, straight in the source CRS for a projected one.
   std::optional<EdgeSpec> edges;
@@ -94,8 +97,12 @@ struct Budget {
   double ellipsoid_source = 0;
   /// E_P in m or m²: the measure on the target CRS's ellipsoid of the vertices after the datum transformation.
   double ellipsoid_target = 0;
-  /// D in m or m²: the vertices joined by the projected images of the true edges, densified until each piece lies
-  /// within AuditOptions::densify_tolerance_m of the true edge.
+  /// D in m or m²: the vertices joined by the projected images of the true edges. An edge within
+  /// AuditOptions::densify_tolerance_m δ of its chord at its midpoint is the parabola through its ends and
+  /// midpoint; any other is integrated by Gauss–Legendre quadrature of the Chebyshev interpolant of its projected
+  /// points, to an estimated error of δ/100 (length) and δ/100 × chord (area) per edge. Tested against a
+  /// 2048-piece Richardson-extrapolated reference for edges of 1 m to 2000 km in seven projections: within 1e-9
+  /// relative or 1e-4 m² and 1e-6 m (tests/edge_quadrature_test.cpp).
   double densified_grid = 0;
 };
 
@@ -152,7 +159,7 @@ struct AuditResult {
   std::optional<Budget> area;    ///< polygons only
   std::optional<Distortion> distortion;            ///< absent when nothing could be projected
   std::optional<double> bearing_error_max_arcsec;  ///< largest |grid bearing of chord − geodesic azimuth|
-  std::size_t densified_points = 0;                ///< points added by densification
+  std::size_t densified_points = 0;                ///< true-edge points projected for D (midpoints, nodes)
   double height_m = 0;                             ///< the ellipsoidal height used for the ground lift
   /// The combined (scale × elevation) factor a surveyor multiplies ground distances by to get grid distances:
   /// mean grid scale × R_G/(R_G + h). The mean grid scale is G/E_P of the length (perimeter for polygons), and
@@ -183,9 +190,9 @@ struct TransformInfo {
 /// independent auditor (sharing nothing mutable) for another thread; it is much cheaper than construction.
 ///
 /// Accuracy: the truth is GeographicLib's geodesic length and area (errors of nanometres and below a square
-/// metre per 10⁶ km², Karney 2013). D approximates the projected true edges to within the densify tolerance of
-/// planar deviation per edge, with a parabolic (Simpson) correction of each final piece, so its error is far below
-/// that tolerance times the perimeter; the distortion statistics come from central differences of the projection
+/// metre per 10⁶ km², Karney 2013). D is a parabola per edge within the densify tolerance of its chord, else a
+/// quadrature to δ/100 per edge (see Budget::densified_grid), so its error is far below that tolerance times the
+/// perimeter; the distortion statistics come from central differences of the projection
 /// (relative error about 1e-9).
 class Auditor {
  public:

@@ -1,0 +1,72 @@
+// Internal: D of one edge by quadrature of its projected image (issue 15).
+//
+// The true edge (geodesic, rhumb line or straight line of the edge CRS) is a curve s ↦ (λ, φ) over [0, L]; its
+// image in the target plane is P(s) = project(curve(s)). Instead of a densified polyline, the image is
+// interpolated by a polynomial of degree n in t ∈ [−1, 1] (s = L (1 − t)/2) through its values at the n + 1
+// Chebyshev–Lobatto points t_j = cos(jπ/n), which include both vertices and (n even) the edge's midpoint; the
+// derivative P'(t) is the derivative of the interpolant (spectral differentiation; Trefethen, "Spectral Methods
+// in MATLAB", 2000, ch. 6). The edge's contributions are then
+//   twice the signed area between the image and its chord:  ∫ (X dY − Y dX) from P0 to P1, X = x − x0, Y = y − y0
+//   length:                                                  ∫ |P'(t)| dt
+// both by n-point Gauss–Legendre quadrature of the interpolant (exact for the area integrand of degree 2n − 1).
+// The image of a true edge is analytic wherever the projection is, so the interpolant converges geometrically
+// (Trefethen, "Approximation Theory and Approximation Practice", 2013, thm. 8.2) and the error of order n is
+// estimated from two orders on the same nodes: the same integrals of the interpolant truncated to degree n − 1.
+// The estimate |Q_n − Q_{n−1}| is that of the lower order, so it bounds Q_n's error from far above when the
+// coefficients decay (the usual situation; a projection's discontinuity makes them stall, and the edge is not
+// accepted). The first order is predicted from the chord, the midpoint's offset and the Earth's radius; when it
+// is not enough the order is doubled (nested: each reuses the previous nodes), up to 64; an edge not accepted
+// at 64 is left to the caller (adaptive densification, which tells a tear from a sharp bend).
+#pragma once
+
+#include <proj.h>
+
+#include <cstddef>
+#include <functional>
+#include <vector>
+
+#include "gridtruth/geometry.hpp"
+
+namespace gridtruth::detail {
+
+class EdgeQuadrature {
+ public:
+  /// A true edge: its point at parameter s ∈ [0, L] as (longitude, latitude) degrees on the target's geographic
+  /// CRS; NaN where it cannot be computed.
+  using Curve = std::function<Coord(double s)>;
+
+  /// What one edge gave. Units: the target plane's linear unit (and its square for areas).
+  struct Result {
+    bool accepted = false;       ///< both estimates within their targets at some order ≤ kMaxOrder
+    double length = 0;           ///< ∫ |P'| dt of the accepted order
+    double bulge2 = 0;           ///< ∫ (X dY − Y dX) from P0 to P1 (twice the area between image and chord)
+    double length_error = 0;     ///< |L_n − L_{n−2}|
+    double area_error = 0;       ///< |B_n − B_{n−2}| / 2 (area units)
+    int order = 0;               ///< n of the last order tried
+    std::size_t points = 0;      ///< projected points computed here (nodes other than the vertices and midpoint)
+  };
+
+  static constexpr int kMaxOrder = 64;
+
+  /// Integrates the image of `curve` over [0, length_param], whose ends project to p0 and p1 and whose midpoint
+  /// (lon/lat `mid_lonlat`) projects to pm. `op` projects (lon, lat) degrees to the plane; `radius` is the
+  /// Earth's radius in the plane's unit. Starts at the order predicted_order() gives and doubles it until both
+  /// estimates are within `length_target` and `area_target` (or kMaxOrder is passed). Appends every node's
+  /// lon/lat to `samples`. Never throws for a bad edge: a node that cannot be projected ends the attempt.
+  Result integrate(const Curve& curve, double length_param, const Coord& p0, const Coord& pm, const Coord& p1,
+                   const Coord& mid_lonlat, PJ* op, double radius, double length_target, double area_target,
+                   std::vector<Coord>& samples);
+
+  /// The smallest even order ≥ 4 whose predicted area estimate is within `area_target`, from the chord, the
+  /// midpoint's distance from it (sagitta) and the Earth's radius (all in the plane's unit).
+  static int predicted_order(double chord, double sagitta, double radius, double area_target);
+
+  /// Decay of the image's coefficients per degree, as a share of chord/R (see predicted_order()).
+  static constexpr double kRate = 0.3;
+
+ private:
+  std::vector<Coord> xy_, fresh_, scratch_;  // nodes j = 0..n of the current order; new nodes; scratch
+  std::vector<std::size_t> index_;
+};
+
+}  // namespace gridtruth::detail
