@@ -50,7 +50,8 @@ class Auditor(_core.Auditor):
 
     Building resolves both CRSs (up to a few hundred milliseconds): build once, audit many. An Auditor pickles (its
     options; it is rebuilt where it is unpickled), so it travels to Dask workers. One thread at a time per Auditor;
-    audit_many() runs its own worker threads, each with a clone.
+    audit_many() runs its own worker threads, each with a clone; clone() gives the compiled core auditor
+    (audit(), no DataFrames) for another thread, as gridtruth.dask does per worker thread.
     """
 
     def __init__(self, target_crs, source_crs=None, edges=None, tolerance=None, height_m=None,
@@ -192,8 +193,9 @@ _LINEAR = ("LineString", "MultiLineString")
 
 
 def _exact_parts(values):
-    """Three floats whose exact sum equals math.fsum-exactly the sum of ``values`` to about 1e-48 relative, so that
-    partial sums merge into the correctly rounded total whatever the partitioning."""
+    """Three floats whose sum is the exact sum of ``values`` to about 1e-48 relative (each the correctly rounded
+    remainder, math.fsum), so that partitions' parts merge by math.fsum into the correctly rounded total whatever
+    the partitioning."""
     values = [float(v) for v in values]
     s = math.fsum(values)
     r = math.fsum(values + [-s])
