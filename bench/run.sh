@@ -1,12 +1,13 @@
 #!/usr/bin/env bash
 # Reruns gridtruth's benchmarks and prints one table of ratios, every number measured in this run.
 #   bash bench/run.sh            (about 3 minutes on 2 cores)
-#   FEATURES=20000 RSS_SIZES="10000 100000 1000000" RANK_FEATURES=100000 bash bench/run.sh
+#   FEATURES=20000 RSS_SIZES="10000 100000 1000000" RANK_FEATURES=100000 PYTHON_FEATURES=100000 bash bench/run.sh
 set -euo pipefail
 cd "$(dirname "$0")/.."
 features=${FEATURES:-20000}
 rss_sizes=${RSS_SIZES:-"10000 100000 1000000"}
 rank_features=${RANK_FEATURES:-100000}
+python_features=${PYTHON_FEATURES:-100000}
 bash cmake/install-deps.sh >/dev/null
 extra=()
 for p in python3-pyproj python3-shapely time; do
@@ -46,9 +47,14 @@ done
 echo "== ranking every candidate CRS of $rank_features features" >&2
 rank_line=$("$bin/bench/rank_vs_audit" "$rank_features" 2 | grep -i 'ratio' | tail -n 1)
 
+echo "== Python package and Dask on $python_features polygons" >&2
+cmake --build --preset release --target gridtruth_python >/dev/null
+python_rows=$(/usr/bin/python3 bench/python_bench.py "$bin" "$python_features" 2000)
+
 echo "| measure | value | target |"
 echo "|---|---|---|"
 echo "| rank every candidate CRS / one plain audit, $rank_features features, 2 threads | $rank_line | ≤ 10 |"
+echo "$python_rows"
 /usr/bin/python3 - "$work/kernel.json" "$t1" "$t2" "$lib" "$py" "${rss[@]}" <<'PY'
 import json, sys
 kernel = json.load(open(sys.argv[1]))["benchmarks"]

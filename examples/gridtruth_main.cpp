@@ -91,12 +91,6 @@ class Progress {
   std::chrono::steady_clock::time_point start_, last_{};
 };
 
-std::string failed_text(const AuditResult& r) {
-  std::string text;
-  for (const auto& f : r.failed) text += (text.empty() ? "exceeds " : ", ") + f;
-  return text;
-}
-
 int run_audit(const AuditArgs& args) {
   // Options first: nothing is read before they all make sense.
   if (!std::isfinite(args.height_m)) return fail_run("--height must be a finite number of metres");
@@ -218,7 +212,7 @@ int run_audit(const AuditArgs& args) {
           writer->write_row(feature.id, result);
         } else {
           AuditResult annotated = result;
-          annotated.message += (annotated.message.empty() ? "" : "; ") + failed_text(result);
+          annotated.message = row_message(result);
           writer->write_row(feature.id, annotated);
         }
         summary.add(feature, result);

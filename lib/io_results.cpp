@@ -12,105 +12,144 @@ namespace gridtruth {
 ResultCsvWriter::ResultCsvWriter(std::ostream& out, std::string line_ending)
     : out_(&out), line_ending_(std::move(line_ending)) {}
 
-const std::vector<std::string>& ResultCsvWriter::columns() {
-  static const std::vector<std::string> names = {
-      "id", "geometry_type", "status", "message", "vertices",
-      "true_length_m", "grid_length_m", "length_error_m", "length_error_ppm", "length_from_edges_m",
-      "length_from_scale_m", "length_from_datum_m", "length_from_height_m",
-      "true_area_m2", "grid_area_m2", "area_error_m2", "area_error_ppm", "area_from_edges_m2", "area_from_scale_m2",
-      "area_from_datum_m2", "area_from_height_m2",
-      "scale_min", "scale_max", "areal_scale_min", "areal_scale_max", "angular_distortion_max_deg",
-      "convergence_min_deg", "convergence_max_deg", "bearing_error_max_arcsec", "verdict"};
-  return names;
-}
+namespace {
 
-void ResultCsvWriter::write_header() {
-  const auto& names = columns();
-  for (std::size_t k = 0; k < names.size(); ++k) {
-    if (k) *out_ << ',';
-    *out_ << names[k];
-  }
-  if (combined_factor_) *out_ << ",combined_factor";
-  *out_ << line_ending_;
+constexpr ResultColumn text_column(std::string_view name) { return {name, ColumnKind::text}; }
+constexpr ResultColumn number_column(std::string_view name) { return {name, ColumnKind::number}; }
+
+}  // namespace
+
+const std::vector<ResultColumn>& result_columns(bool combined_factor) {
+  static const std::vector<ResultColumn> base = {
+      text_column("id"), text_column("geometry_type"), text_column("status"), text_column("message"),
+      {"vertices", ColumnKind::count},
+      number_column("true_length_m"), number_column("grid_length_m"), number_column("length_error_m"),
+      number_column("length_error_ppm"), number_column("length_from_edges_m"), number_column("length_from_scale_m"),
+      number_column("length_from_datum_m"), number_column("length_from_height_m"),
+      number_column("true_area_m2"), number_column("grid_area_m2"), number_column("area_error_m2"),
+      number_column("area_error_ppm"), number_column("area_from_edges_m2"), number_column("area_from_scale_m2"),
+      number_column("area_from_datum_m2"), number_column("area_from_height_m2"),
+      number_column("scale_min"), number_column("scale_max"), number_column("areal_scale_min"),
+      number_column("areal_scale_max"), number_column("angular_distortion_max_deg"),
+      number_column("convergence_min_deg"), number_column("convergence_max_deg"),
+      number_column("bearing_error_max_arcsec"), text_column("verdict")};
+  static const std::vector<ResultColumn> with_factor = [] {
+    std::vector<ResultColumn> c = base;
+    c.push_back(number_column("combined_factor"));
+    return c;
+  }();
+  return combined_factor ? with_factor : base;
 }
 
 namespace {
 
-/// csv_field(text) appended to `line`.
-void append_csv_field(std::string& line, std::string_view text) {
-  if (text.find_first_of(",\"\r\n") == std::string_view::npos) line.append(text);
-  else line += csv_field(text);
-}
-
-void append_budget(std::string& line, const std::optional<Budget>& b) {
-  const double* values[8] = {};
-  if (b) {
-    values[0] = &b->reference;
-    values[1] = &b->grid;
-    values[2] = &b->error;
-    values[3] = &b->error_ppm;
-    values[4] = &b->from_edges;
-    values[5] = &b->from_scale;
-    values[6] = &b->from_datum;
-    values[7] = &b->from_height;
-  }
-  for (const double* v : values) {
-    line += ',';
-    if (v) detail::append_number(line, *v);
-  }
+/// Appends the 8 cells of a budget (empty when absent).
+void add_budget(ResultRow& row, const std::optional<Budget>& b) {
+  const double values[8] = {b ? b->reference : NAN,  b ? b->grid : NAN,       b ? b->error : NAN,
+                            b ? b->error_ppm : NAN,  b ? b->from_edges : NAN, b ? b->from_scale : NAN,
+                            b ? b->from_datum : NAN, b ? b->from_height : NAN};
+  for (const double v : values) row.cells[row.size++].number = v;
 }
 
 }  // namespace
 
-void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
-  // One line built in one buffer (numbers appended in place), kept between rows: a row costs well under 1 µs.
-  std::string& line = line_;
-  line.clear();
-  append_csv_field(line, id);
-  line += ',';
-  line += to_string(r.type);
-  line += ',';
-  line += to_string(r.status);
-  line += ',';
-  append_csv_field(line, r.message);
-  line += ',';
-  char digits[24];
-  line.append(digits, std::to_chars(digits, digits + sizeof digits, r.vertices).ptr);
-  append_budget(line, r.length);
-  append_budget(line, r.area);
+std::string row_message(const AuditResult& r) {
+  std::string text = r.message;
+  for (std::size_t k = 0; k < r.failed.size(); ++k) {
+    text += k > 0 ? ", " : text.empty() ? "exceeds " : "; exceeds ";
+    text += r.failed[k];
+  }
+  return text;
+}
+
+ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_factor) {
+  ResultRow row;
+  row.cells[row.size++].text = id;
+  row.cells[row.size++].text = to_string(r.type);
+  row.cells[row.size++].text = to_string(r.status);
+  row.cells[row.size++].text = r.message;
+  row.cells[row.size++].number = static_cast<double>(r.vertices);
+  add_budget(row, r.length);
+  add_budget(row, r.area);
   const Distortion* d = r.distortion ? &*r.distortion : nullptr;
   const double distortion[7] = {
       d ? d->scale_min : NAN,       d ? d->scale_max : NAN,           d ? d->areal_scale_min : NAN,
       d ? d->areal_scale_max : NAN, d ? d->angular_distortion_max_deg : NAN, d ? d->convergence_min_deg : NAN,
       d ? d->convergence_max_deg : NAN};
-  for (const double v : distortion) {
-    line += ',';
-    detail::append_number(line, v);
+  for (const double v : distortion) row.cells[row.size++].number = v;
+  row.cells[row.size++].number = r.bearing_error_max_arcsec ? *r.bearing_error_max_arcsec : NAN;
+  row.cells[row.size++].text = to_string(r.verdict);
+  if (combined_factor) row.cells[row.size++].number = r.combined_factor ? *r.combined_factor : NAN;
+  return row;
+}
+
+ResultRow unread_row(std::string_view id, std::string_view message, std::optional<GeometryType> type,
+                     bool combined_factor) {
+  ResultRow row;
+  const auto& columns = result_columns(combined_factor);
+  row.size = columns.size();
+  for (std::size_t k = 0; k < row.size; ++k) {
+    if (columns[k].kind != ColumnKind::text) row.cells[k].number = NAN;
   }
-  line += ',';
-  if (r.bearing_error_max_arcsec) detail::append_number(line, *r.bearing_error_max_arcsec);
-  line += ',';
-  line += to_string(r.verdict);
-  if (combined_factor_) {
-    line += ',';
-    if (r.combined_factor) detail::append_number(line, *r.combined_factor);
+  row.cells[0].text = id;
+  if (type) row.cells[1].text = to_string(*type);
+  row.cells[2].text = to_string(Status::invalid);
+  row.cells[3].text = message;
+  return row;
+}
+
+const std::vector<std::string>& ResultCsvWriter::columns() {
+  static const std::vector<std::string> names = [] {
+    std::vector<std::string> n;
+    for (const ResultColumn& c : result_columns()) n.emplace_back(c.name);
+    return n;
+  }();
+  return names;
+}
+
+void ResultCsvWriter::write_header() {
+  const auto& columns = result_columns(combined_factor_);
+  for (std::size_t k = 0; k < columns.size(); ++k) {
+    if (k) *out_ << ',';
+    *out_ << columns[k].name;
+  }
+  *out_ << line_ending_;
+}
+
+void ResultCsvWriter::write_cells(const ResultRow& row) {
+  // One line built in one buffer (numbers appended in place), kept between rows: a row costs well under 1 µs.
+  std::string& line = line_;
+  line.clear();
+  const auto& columns = result_columns(combined_factor_);
+  for (std::size_t k = 0; k < row.size; ++k) {
+    if (k) line += ',';
+    const ResultCell& cell = row.cells[k];
+    switch (columns[k].kind) {
+      case ColumnKind::text:
+        if (cell.text.find_first_of(",\"\r\n") == std::string_view::npos) line.append(cell.text);
+        else line += csv_field(cell.text);
+        break;
+      case ColumnKind::count:
+        if (std::isfinite(cell.number)) {
+          char digits[24];
+          line.append(digits,
+                      std::to_chars(digits, digits + sizeof digits, static_cast<unsigned long long>(cell.number)).ptr);
+        }
+        break;
+      case ColumnKind::number: detail::append_number(line, cell.number); break;
+    }
   }
   line += line_ending_;
   out_->write(line.data(), static_cast<std::streamsize>(line.size()));
 }
 
+void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
+  write_cells(result_row(id, r, combined_factor_));
+}
+
 void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view message,
                                        std::optional<GeometryType> type) {
-  std::string line = csv_field(id);
-  line += ',';
-  if (type) line += to_string(*type);
-  line += ",invalid,";
-  line += csv_field(message);
-  line += ',';  // vertices: unknown
-  // 8 length + 8 area + 7 distortion + bearing + verdict columns, all empty.
-  line.append(8 + 8 + 7 + 1 + 1 + (combined_factor_ ? 1 : 0), ',');
-  line += line_ending_;
-  *out_ << line;
+  write_cells(unread_row(id, message, type, combined_factor_));
 }
 
 }  // namespace gridtruth

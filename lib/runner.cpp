@@ -1,11 +1,13 @@
 #include "gridtruth/runner.hpp"
 
+#include <tbb/blocked_range.h>
 #include <tbb/enumerable_thread_specific.h>
 #include <tbb/global_control.h>
 #include <tbb/parallel_for.h>
 #include <tbb/parallel_pipeline.h>
 #include <tbb/task_arena.h>
 
+#include <algorithm>
 #include <exception>
 #include <memory>
 #include <thread>
@@ -24,6 +26,22 @@ AuditResult unread_result(const InputFeature& feature) {
 
 namespace {
 
+/// A feature's audit as every runner does it: unread, at its own height, or at the auditor's.
+AuditResult audit_feature(const Auditor& auditor, const InputFeature& f) {
+  return !f.geometry ? unread_result(f) : f.height_m ? auditor.audit(*f.geometry, *f.height_m) : auditor.audit(*f.geometry);
+}
+
+unsigned thread_count(const RunOptions& options) {
+  return options.threads == 0 ? std::max(1U, std::thread::hardware_concurrency()) : options.threads;
+}
+
+/// One auditor per worker thread, cloned on first use: PROJ objects are not thread-safe. The prototype is only
+/// read (clone()).
+tbb::enumerable_thread_specific<std::unique_ptr<Auditor>> per_thread(const Auditor& auditor) {
+  return tbb::enumerable_thread_specific<std::unique_ptr<Auditor>>(
+      [&auditor] { return std::make_unique<Auditor>(auditor.clone()); });
+}
+
 /// Features travel through the pipeline as raw text (cut serially), are parsed and audited in the parallel stage
 /// and handed to the sink in order.
 struct Batch {
@@ -36,15 +54,11 @@ struct Batch {
 
 std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOptions& options,
                       const ResultSink& sink) {
-  const unsigned hardware = std::max(1U, std::thread::hardware_concurrency());
-  const unsigned threads = options.threads == 0 ? hardware : options.threads;
+  const unsigned threads = thread_count(options);
   const std::size_t batch_size = std::max<std::size_t>(1, options.batch_features);
   std::size_t count = 0;
 
-  // One auditor per worker thread: PROJ objects are not thread-safe. The prototype is only read (clone()).
-  tbb::enumerable_thread_specific<std::unique_ptr<Auditor>> local([&] {
-    return std::make_unique<Auditor>(auditor.clone());
-  });
+  auto local = per_thread(auditor);
   bool done = false;
   std::exception_ptr reader_failure;
   tbb::task_arena arena(static_cast<int>(threads));
@@ -88,11 +102,7 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                   for (RawFeature& raw : batch->raws) batch->features.push_back(reader.parse(std::move(raw)));
                   batch->raws = {};
                   batch->results.reserve(batch->features.size());
-                  for (const InputFeature& f : batch->features) {
-                    batch->results.push_back(!f.geometry  ? unread_result(f)
-                                            : f.height_m ? mine->audit(*f.geometry, *f.height_m)
-                                                         : mine->audit(*f.geometry));
-                  }
+                  for (const InputFeature& f : batch->features) batch->results.push_back(audit_feature(*mine, f));
                   return batch;
                 }) &
             tbb::make_filter<std::shared_ptr<Batch>, void>(tbb::filter_mode::serial_in_order,
@@ -106,6 +116,29 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
   });
   if (reader_failure) std::rethrow_exception(reader_failure);
   return count;
+}
+
+std::vector<AuditResult> audit_features(const std::vector<InputFeature>& features, const Auditor& auditor,
+                                        const RunOptions& options) {
+  const unsigned threads = thread_count(options);
+  const std::size_t batch_size = std::max<std::size_t>(1, options.batch_features);
+  std::vector<AuditResult> results(features.size());
+  if (threads == 1) {  // no clone, no arena: the caller's auditor on the caller's thread
+    for (std::size_t i = 0; i < features.size(); ++i) results[i] = audit_feature(auditor, features[i]);
+    return results;
+  }
+  auto local = per_thread(auditor);
+  tbb::task_arena arena(static_cast<int>(threads));
+  arena.execute([&] {
+    tbb::parallel_for(tbb::blocked_range<std::size_t>(0, features.size(), batch_size),
+                      [&](const tbb::blocked_range<std::size_t>& range) {
+                        const Auditor& mine = *local.local();
+                        for (std::size_t i = range.begin(); i != range.end(); ++i) {
+                          results[i] = audit_feature(mine, features[i]);
+                        }
+                      });
+  });
+  return results;
 }
 
 }  // namespace gridtruth

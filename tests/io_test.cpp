@@ -720,5 +720,53 @@ TEST(ResultCsvWriter, RowsHaveEmptyCellsWhereAValueDoesNotApply) {
   EXPECT_EQ(cell(4, "verdict"), "");
 }
 
+TEST(ResultTable, CellsAreWhatTheWriterPrintsAndTheMessageNamesTheFailedTolerances) {
+  AuditResult r;
+  r.type = GeometryType::polygon;
+  r.vertices = 5;
+  r.message = "outside the area of use";
+  Budget b;
+  b.reference = 12345.678;
+  b.grid = 12346.1;
+  b.error = b.grid - b.reference;
+  b.error_ppm = 1e6 * b.error / b.reference;
+  r.area = b;
+  r.length = b;
+  r.verdict = Verdict::fail;
+  r.failed = {"area<=10ppm", "length<=20ppm"};
+  // The command's message column: the warning, then the failed tolerances.
+  EXPECT_EQ(row_message(r), "outside the area of use; exceeds area<=10ppm, length<=20ppm");
+  AuditResult quiet = r;
+  quiet.message.clear();
+  EXPECT_EQ(row_message(quiet), "exceeds area<=10ppm, length<=20ppm");
+  quiet.failed.clear();
+  EXPECT_EQ(row_message(quiet), "");
+
+  for (const bool factor : {false, true}) {
+    r.combined_factor = 0.99987;
+    const ResultRow row = result_row("A,1", r, factor);
+    const auto& columns = result_columns(factor);
+    ASSERT_EQ(row.size, columns.size());
+    EXPECT_EQ(columns.back().name, factor ? "combined_factor" : "verdict");
+    std::ostringstream out;
+    ResultCsvWriter w(out);
+    w.with_combined_factor(factor);
+    w.write_row("A,1", r);
+    const auto records = parse_csv(out.str());
+    ASSERT_EQ(records.size(), 1u);
+    ASSERT_EQ(records[0].size(), columns.size());
+    for (std::size_t k = 0; k < row.size; ++k) {
+      const std::string expected = columns[k].kind == ColumnKind::text ? std::string(row.cells[k].text)
+                                                                        : format_number(row.cells[k].number);
+      EXPECT_EQ(records[0][k], expected) << columns[k].name;
+    }
+  }
+  const ResultRow unread = unread_row("X", "bad", GeometryType::line_string);
+  EXPECT_EQ(unread.cells[1].text, "LineString");
+  EXPECT_EQ(unread.cells[2].text, "invalid");
+  EXPECT_EQ(unread.cells[3].text, "bad");
+  EXPECT_TRUE(std::isnan(unread.cells[4].number));  // vertices unknown
+}
+
 }  // namespace
 }  // namespace gridtruth

@@ -172,4 +172,27 @@ TEST(Runner, FeaturesParsedOnTheWorkersAreThoseNextGivesInOrder) {
   }
 }
 
+TEST(Runner, InMemoryFeaturesGiveTheStreamingResultsOnAnyThreadCount) {
+  const std::uint64_t seed = 16;
+  RecordProperty("seed", std::to_string(seed));
+  const std::string text = make_ndjson(200, seed);
+  const std::vector<Row> streamed = run(text, 2, 16);
+  std::istringstream in(text);
+  FeatureReader reader(in, {gridtruth::InputFormat::ndjson});
+  std::vector<InputFeature> features;
+  while (auto f = reader.next()) features.push_back(std::move(*f));
+  AuditOptions options;
+  options.target_crs = "EPSG:26915";
+  const Auditor auditor(options);
+  for (const auto& [threads, batch] : std::vector<std::pair<unsigned, std::size_t>>{{1, 256}, {2, 1}, {3, 7}}) {
+    const std::vector<AuditResult> results = gridtruth::audit_features(features, auditor, RunOptions{threads, batch});
+    ASSERT_EQ(results.size(), streamed.size());
+    for (std::size_t i = 0; i < results.size(); ++i) {
+      EXPECT_EQ(results[i].status, streamed[i].status) << streamed[i].id;
+      EXPECT_EQ(results[i].message, streamed[i].message) << streamed[i].id;
+      if (!std::isnan(streamed[i].area)) EXPECT_EQ(results[i].area->grid, streamed[i].area) << streamed[i].id;
+    }
+  }
+}
+
 }  // namespace

@@ -135,6 +135,47 @@ std::string format_number(double value);
 /// in double quotes and inner quotes doubled; any other field is written as is.
 std::string csv_field(std::string_view text);
 
+/// What a result column holds: text (id, names, message), a count (vertices) or a number (m, m², ppm, scales,
+/// degrees, arcseconds: the unit is in the column's name).
+enum class ColumnKind { text, count, number };
+
+/// One column of the result table (ResultCsvWriter's columns, in order).
+struct ResultColumn {
+  std::string_view name;  ///< e.g. "true_area_m2"
+  ColumnKind kind;        ///< what the column holds
+};
+
+/// The result table's columns in order: the CSV header of `gridtruth audit`, plus a last `combined_factor` when
+/// asked for. One table for every writer of results (CSV, the Python binding).
+const std::vector<ResultColumn>& result_columns(bool combined_factor = false);
+
+/// One cell of a result row. Text columns use `text` (which points into the id, the result or static names, so
+/// the row must not outlive them); count and number columns use `number`, NaN when the value does not apply (a
+/// point's length, a line's area, an unread feature's vertices).
+struct ResultCell {
+  std::string_view text;  ///< text columns
+  double number = 0;      ///< count and number columns; NaN: empty
+};
+
+/// The cells of one row, column by column as result_columns(combined_factor) lists them.
+struct ResultRow {
+  static constexpr std::size_t max_columns = 31;  ///< columns with combined_factor
+  ResultCell cells[max_columns];                  ///< the first `size` are set
+  std::size_t size = 0;                           ///< result_columns(combined_factor).size()
+};
+
+/// The text of a row's `message` column: AuditResult::message, then (after "; " when both are there) "exceeds "
+/// and the failed tolerances (AuditResult::failed), comma-separated, e.g. "exceeds area<=500ppm".
+std::string row_message(const AuditResult& result);
+
+/// The row of an audited feature (`id` as given). Its message cell is AuditResult::message: give the writer a
+/// result whose message is row_message() for the command's rows.
+ResultRow result_row(std::string_view id, const AuditResult& result, bool combined_factor = false);
+/// The row of a feature that could not be read: status `invalid`, the message, the geometry type when known, every
+/// other cell empty.
+ResultRow unread_row(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt,
+                     bool combined_factor = false);
+
 /// Writes audit results as CSV rows (RFC 4180), one per feature, with the columns of result_columns().
 /// Numbers use format_number(); a value that does not apply (a point's length, a line's area, NaN) is an empty
 /// cell. Lines end with CRLF (RFC 4180 section 2.1) unless another ending is given.
@@ -142,7 +183,7 @@ class ResultCsvWriter {
  public:
   /// Writes to `out`, which must outlive the writer, ending lines with `line_ending` (CRLF by default).
   explicit ResultCsvWriter(std::ostream& out, std::string line_ending = "\r\n");
-  /// The column names, in order.
+  /// The column names, in order (the names of result_columns()).
   static const std::vector<std::string>& columns();
   /// Adds a last column `combined_factor` (AuditResult::combined_factor), for audits with heights.
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
@@ -155,6 +196,8 @@ class ResultCsvWriter {
                         std::optional<GeometryType> type = std::nullopt);
 
  private:
+  void write_cells(const ResultRow& row);
+
   std::ostream* out_;
   std::string line_ending_;
   bool combined_factor_ = false;
