@@ -38,7 +38,8 @@ namespace {
 
 /// csv_field(text) appended to `line`.
 void append_csv_field(std::string& line, std::string_view text) {
-  if (text.find_first_of(",\"\r\n") == std::string_view::npos) line.append(text);
+  if (text.find_first_of(",\"\r\n") == std::string_view::npos && !detail::spreadsheet_formula_start(text))
+    line.append(text);
   else line += csv_field(text);
 }
 
