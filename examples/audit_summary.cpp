@@ -179,7 +179,20 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                      {"verdict", std::string(to_string(w.verdict))}});
   }
   j["worst_features"] = worst;
-  j["exit_status"] = exit_status();
+  json problems = json::array();
+  std::uint64_t skipped_bytes = 0;
+  if (c.input_problems) {
+    for (const InputProblem& p : *c.input_problems) {
+      skipped_bytes += p.end_byte - p.first_byte;
+      problems.push_back({{"first_byte", p.first_byte},
+                          {"end_byte", p.end_byte},
+                          {"line", p.line},
+                          {"feature_position", p.position ? json(p.position) : json(nullptr)},
+                          {"message", p.message}});
+    }
+  }
+  j["input_problems"] = {{"skipped_bytes", skipped_bytes}, {"spans", problems}};
+  j["exit_status"] = exit_status(c);
   j["caution"] = caution_text;
   return j;
 }
@@ -233,6 +246,16 @@ std::string AuditSummary::to_text(const Context& c) const {
         << " ppm";
       if (f.verdict != Verdict::none) s << "  " << to_string(f.verdict);
       s << "\n";
+    }
+  }
+  if (c.input_problems && !c.input_problems->empty()) {
+    std::uint64_t skipped_bytes = 0;
+    for (const InputProblem& p : *c.input_problems) skipped_bytes += p.end_byte - p.first_byte;
+    s << "  damaged input: " << c.input_problems->size() << " place(s), " << skipped_bytes << " bytes skipped\n";
+    for (const InputProblem& p : *c.input_problems) {
+      s << "    line " << p.line;
+      if (p.position) s << " (row of feature " << p.position << ")";
+      s << ": " << p.message << "\n";
     }
   }
   s << "  " << caution_text << "\n";

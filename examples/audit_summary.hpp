@@ -76,7 +76,13 @@ class AuditSummary {
     InputFormat format = InputFormat::automatic;
     const Auditor* auditor = nullptr;
     SummaryUnits units;
+    /// Spans the reader skipped and damaged ends of the input (FeatureReader::problems()); null: none.
+    const std::vector<InputProblem>* input_problems = nullptr;
   };
+  /// exit_status(), and 1 when the reader had to skip or met a damaged end even if every row is fine.
+  int exit_status(const Context& context) const {
+    return (context.input_problems && !context.input_problems->empty()) ? 1 : exit_status();
+  }
   nlohmann::ordered_json to_json(const Context& context) const;
   std::string to_text(const Context& context) const;
 

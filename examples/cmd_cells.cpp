@@ -14,6 +14,7 @@
 
 #include "audit_summary.hpp"
 #include "commands.hpp"
+#include "output_file.hpp"
 #include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
@@ -197,14 +198,11 @@ int run_cells(const CellsArgs& a) {
     return fail(e.what());
   }
 
-  std::ofstream out_file;
-  std::ostream* out = &std::cout;
-  const auto open_out = [&] {
-    if (a.out.empty()) return true;
-    out_file.open(a.out, std::ios::binary | std::ios::trunc);
-    out = &out_file;
-    return static_cast<bool>(out_file);
-  };
+  if (!a.classes.empty()) {
+    if (const std::string problem = same_file_problem({a.classes}, {a.out.empty() ? std::string("-") : a.out});
+        !problem.empty())
+      return fail(problem);
+  }
 
   if (!a.classes.empty()) {
     ClassAreaAccumulator acc(*grid, nodata);
@@ -217,26 +215,34 @@ int run_cells(const CellsArgs& a) {
     } catch (const Error& e) {
       return fail(e.what());
     }
-    if (!open_out()) return fail("cannot write " + a.out);
-    *out << "class,cells,true_area_m2,naive_area_m2,difference_m2,difference_pct\n";
-    for (const ClassArea& c : acc.result())
-      *out << c.code << ',' << c.cells << ',' << cell_text(c.true_area_m2) << ',' << cell_text(c.naive_area_m2) << ','
-           << cell_text(c.difference_m2) << ',' << cell_text(c.difference_pct) << '\n';
-    out->flush();
-    if (!*out) return fail("cannot write " + (a.out.empty() ? std::string("standard output") : a.out));
+    try {
+      OutputFile out_file(a.out);
+      std::ostream& out = out_file.stream();
+      out << "class,cells,true_area_m2,naive_area_m2,difference_m2,difference_pct\n";
+      for (const ClassArea& c : acc.result())
+        out << c.code << ',' << c.cells << ',' << cell_text(c.true_area_m2) << ',' << cell_text(c.naive_area_m2)
+            << ',' << cell_text(c.difference_m2) << ',' << cell_text(c.difference_pct) << '\n';
+      out_file.commit();
+    } catch (const OutputError& e) {
+      return fail(e.what());
+    }
     return 0;
   }
 
-  if (!open_out()) return fail("cannot write " + a.out);
-  *out << "row_start,row_end,col_start,col_end,cells,true_area_m2,nominal_area_m2,ratio\n";
   std::size_t unmeasured = 0;
-  grid->for_each_record(a.block, [&](const CellRecord& r) {
-    if (!std::isfinite(r.true_area_m2)) ++unmeasured;
-    *out << r.row_start << ',' << r.row_end << ',' << r.col_start << ',' << r.col_end << ',' << r.cells << ','
-         << cell_text(r.true_area_m2) << ',' << cell_text(r.nominal_area_m2) << ',' << cell_text(r.ratio) << '\n';
-  });
-  out->flush();
-  if (!*out) return fail("cannot write " + (a.out.empty() ? std::string("standard output") : a.out));
+  try {
+    OutputFile out_file(a.out);
+    std::ostream& out = out_file.stream();
+    out << "row_start,row_end,col_start,col_end,cells,true_area_m2,nominal_area_m2,ratio\n";
+    grid->for_each_record(a.block, [&](const CellRecord& r) {
+      if (!std::isfinite(r.true_area_m2)) ++unmeasured;
+      out << r.row_start << ',' << r.row_end << ',' << r.col_start << ',' << r.col_end << ',' << r.cells << ','
+          << cell_text(r.true_area_m2) << ',' << cell_text(r.nominal_area_m2) << ',' << cell_text(r.ratio) << '\n';
+    });
+    out_file.commit();
+  } catch (const OutputError& e) {
+    return fail(e.what());
+  }
   if (unmeasured > 0) {
     std::cerr << "gridtruth cells: " << unmeasured
               << " records hold cells the grid CRS cannot take back to the ellipsoid (empty areas)\n";
@@ -278,6 +284,7 @@ Command set_up(CLI::App& tool) {
                   "Exit status: 0 done; 1 some cells could not be measured (empty areas); 2 bad options or "
                   "unreadable input.\n\n") +
               caution_text + "\n");
+  add_trusted_crs_flag(app);
   return Command{app, [args] { return run_cells(*args); }};
 }
 

@@ -1,7 +1,6 @@
 // gridtruth rank — which projected CRS keeps these features most nearly true? Candidates ranked by measurement.
 #include <cmath>
 #include <cstdio>
-#include <fstream>
 #include <iostream>
 #include <memory>
 #include <sstream>
@@ -10,6 +9,7 @@
 
 #include "audit_summary.hpp"
 #include "commands.hpp"
+#include "output_file.hpp"
 #include "rank_input.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
@@ -51,6 +51,12 @@ int run_rank(const RankArgs& a) {
     std::cerr << "gridtruth rank: " << e.what() << "\n";
     return 2;
   }
+  std::vector<std::string> outputs = {"-"};
+  if (!a.out.empty()) outputs.push_back(a.out);
+  if (const std::string problem = same_file_problem({a.input}, outputs); !problem.empty()) {
+    std::cerr << "gridtruth rank: " << problem << "\n";
+    return 2;
+  }
   RankReport report;
   try {
     const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
@@ -59,25 +65,22 @@ int run_rank(const RankArgs& a) {
     std::cerr << "gridtruth rank: " << e.what() << "\n";
     return 2;
   }
-  std::unique_ptr<std::ofstream> file;
   if (!a.out.empty()) {
-    file = std::make_unique<std::ofstream>(a.out, std::ios::binary);
-    if (!*file) {
-      std::cerr << "gridtruth rank: cannot write '" << a.out << "'\n";
-      return 2;
-    }
-    std::ostream& csv = *file;
-    csv << "crs,name,kind,metric,worst_ppm,p95_ppm,pass_share,inside_area_of_use,definition\r\n";
-    for (std::size_t k = 0; k < report.ranked.size() && k < a.top; ++k) {
-      const RankedCrs& r = report.ranked[k];
-      csv << csv_field(r.candidate.crs) << ',' << csv_field(r.candidate.name) << ','
-          << (r.candidate.generated ? "generated" : "registry") << ',' << to_string(r.metric) << ','
-          << cell(r.worst_ppm) << ',' << cell(r.p95_ppm) << ',' << cell(r.pass_share) << ','
-          << inside_text(r.candidate.inside_area_of_use) << ','
-          << csv_field(r.candidate.generated ? r.candidate.definition : "") << "\r\n";
-    }
-    if (!csv) {
-      std::cerr << "gridtruth rank: cannot write '" << a.out << "'\n";
+    try {
+      OutputFile file(a.out);
+      std::ostream& csv = file.stream();
+      csv << "crs,name,kind,metric,worst_ppm,p95_ppm,pass_share,inside_area_of_use,definition\r\n";
+      for (std::size_t k = 0; k < report.ranked.size() && k < a.top; ++k) {
+        const RankedCrs& r = report.ranked[k];
+        csv << csv_field(r.candidate.crs) << ',' << csv_field(r.candidate.name) << ','
+            << (r.candidate.generated ? "generated" : "registry") << ',' << to_string(r.metric) << ','
+            << cell(r.worst_ppm) << ',' << cell(r.p95_ppm) << ',' << cell(r.pass_share) << ','
+            << inside_text(r.candidate.inside_area_of_use) << ','
+            << csv_field(r.candidate.generated ? r.candidate.definition : "") << "\r\n";
+      }
+      file.commit();
+    } catch (const OutputError& e) {
+      std::cerr << "gridtruth rank: " << e.what() << "\n";
       return 2;
     }
   }
@@ -109,6 +112,10 @@ int run_rank(const RankArgs& a) {
                   r.candidate.name.c_str(), r.unmeasured ? (" [" + std::to_string(r.unmeasured) + " unmeasured]").c_str() : "");
     o << line;
   }
+  if (const std::string problem = flush_stdout_problem(); !problem.empty()) {
+    std::cerr << "gridtruth rank: " << problem << "\n";
+    return 2;
+  }
   return 0;
 }
 
@@ -136,6 +143,7 @@ Command set_up(CLI::App& tool) {
                   "screened by distortion factors at sample vertices; the leaders are audited exactly.\n"
                   "Exit status: 0 ranked, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
+  add_trusted_crs_flag(app);
   return Command{app, [args] { return run_rank(*args); }};
 }
 

@@ -7,6 +7,7 @@
 
 #include "audit_summary.hpp"
 #include "commands.hpp"
+#include "output_file.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/tailor.hpp"
 #include "rank_input.hpp"
@@ -49,6 +50,10 @@ int run_tailor(const TailorArgs& a) {
     std::cerr << "gridtruth tailor: " << e.what() << "\n";
     return 2;
   }
+  if (const std::string problem = same_file_problem({a.input}, {"-"}); !problem.empty()) {
+    std::cerr << "gridtruth tailor: " << problem << "\n";
+    return 2;
+  }
   TailorResult t;
   try {
     const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
@@ -85,6 +90,10 @@ int run_tailor(const TailorArgs& a) {
   } else if (options.compare_registry) {
     o << "No database CRS covers the extent: no comparison.\n";
   }
+  if (const std::string problem = flush_stdout_problem(); !problem.empty()) {
+    std::cerr << "gridtruth tailor: " << problem << "\n";
+    return 2;
+  }
   return 0;
 }
 
@@ -109,6 +118,7 @@ Command set_up(CLI::App& tool) {
                           "vertices (Nelder-Mead); the result is then audited exactly on every feature.\n"
                           "Exit status: 0 tailored, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
+  add_trusted_crs_flag(app);
   return Command{app, [args] { return run_tailor(*args); }};
 }
 

@@ -32,6 +32,27 @@ inline std::vector<CommandSpec>& command_registry() {
   return commands;
 }
 
+/// Whether the tool started with standard input closed (main() then holds descriptor 0 on /dev/null, so that no
+/// file it opens later is mistaken for standard input).
+inline bool& standard_input_closed() {
+  static bool closed = false;
+  return closed;
+}
+
+/// Whether --trusted-crs was given to the command being run (every command has the flag).
+inline bool& trusted_crs_given() {
+  static bool given = false;
+  return given;
+}
+
+/// Adds --trusted-crs to a command. Without it, PROJ may open grid and init files only inside its data
+/// directories (gridtruth::CrsFileAccess::data_directories); main() applies the choice before the command runs.
+inline void add_trusted_crs_flag(CLI::App* app) {
+  app->add_flag("--trusted-crs", trusted_crs_given(),
+                "let CRS definitions name any grid or init file (+nadgrids=, +grids=, +geoidgrids=, +init=); "
+                "without it only regular files in PROJ's data directories are opened");
+}
+
 /// `static const CommandRegistrar registrar{"rank", set_up_rank};` in a command's .cpp registers it.
 struct CommandRegistrar {
   CommandRegistrar(std::string name, CommandSetup setup) {

@@ -4,11 +4,13 @@
 //
 // Exit status: 0 every feature ok and within tolerance; 1 some feature failed a tolerance or is invalid or
 // unmeasurable; 2 nothing could be audited (bad option, unreadable input, unknown CRS), with a one-line reason.
+#include <fcntl.h>
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
 #include <chrono>
 #include <cctype>
+#include <cerrno>
 #include <cmath>
 #include <cstdio>
 #include <fstream>
@@ -17,10 +19,13 @@
 #include <optional>
 #include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "audit_summary.hpp"
 #include "commands.hpp"
+#include "output_file.hpp"
 #include "gridtruth/audit.hpp"
+#include "gridtruth/crs.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "gridtruth/report.hpp"
@@ -136,6 +141,13 @@ int run_audit(const AuditArgs& args) {
     return fail_run(std::string("cannot set up the audit: ") + e.what());
   }
 
+  std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
+  for (const std::string* path : {&args.summary, &args.report, &args.geojson})
+    if (!path->empty()) outputs.push_back(*path);
+  if (const std::string problem = cli::same_file_problem({args.input}, outputs); !problem.empty())
+    return fail_run(problem);
+
+  if (args.input == "-" && cli::standard_input_closed()) return fail_run("cannot read standard input: it is closed");
   std::optional<FeatureReader> reader;
   try {
     reader.emplace(args.input, reader_options);
@@ -143,47 +155,22 @@ int run_audit(const AuditArgs& args) {
     return fail_run(e.what());
   }
 
-  // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind.
-  struct OutputError : std::runtime_error {
-    using std::runtime_error::runtime_error;
-  };
-  std::ofstream out_file, summary_file, report_file, geojson_file;
-  std::ostream* out = &std::cout;
+  // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
+  // each is written under a temporary name and renamed into place once complete (examples/output_file.hpp).
+  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file;
   std::optional<ResultCsvWriter> writer;
   std::optional<ResultGeoJsonWriter> geojson;
   auto open_outputs = [&] {
-    if (!args.out.empty()) {
-      out_file.open(args.out, std::ios::binary | std::ios::trunc);
-      if (!out_file) throw OutputError("cannot write " + args.out);
-      out = &out_file;
-    }
-    if (!args.summary.empty()) {
-      summary_file.open(args.summary, std::ios::binary | std::ios::trunc);
-      if (!summary_file) {
-        if (out_file.is_open()) {
-          out_file.close();
-          std::remove(args.out.c_str());
-        }
-        throw OutputError("cannot write " + args.summary);
-      }
-    }
+    out_file = std::make_unique<cli::OutputFile>(args.out);
+    if (!args.summary.empty()) summary_file = std::make_unique<cli::OutputFile>(args.summary);
     // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
-    auto open_extra = [&](std::ofstream& file, const std::string& path) {
-      if (path.empty()) return;
-      file.open(path, std::ios::binary | std::ios::trunc);
-      if (!file) {
-        for (const std::string* p : {&args.out, &args.summary, &args.report, &args.geojson})
-          if (!p->empty() && p != &path && *p != path) std::remove(p->c_str());
-        throw OutputError("cannot write " + path);
-      }
-    };
-    open_extra(report_file, args.report);
-    open_extra(geojson_file, args.geojson);
-    if (geojson_file.is_open()) {
-      geojson.emplace(geojson_file);
+    if (!args.report.empty()) report_file = std::make_unique<cli::OutputFile>(args.report);
+    if (!args.geojson.empty()) {
+      geojson_file = std::make_unique<cli::OutputFile>(args.geojson);
+      geojson.emplace(geojson_file->stream());
       geojson->with_combined_factor(with_heights);
     }
-    writer.emplace(*out);
+    writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
     writer->write_header();
   };
@@ -227,46 +214,42 @@ int run_audit(const AuditArgs& args) {
       progress.update(summary.read());
     });
     if (!writer) open_outputs();  // an input without features still gets its header line
-  } catch (const OutputError& e) {
+  } catch (const cli::OutputError& e) {
     progress.finish();
     return fail_run(e.what());
   } catch (const Error& e) {
     progress.finish();
     if (!writer) return fail_run(input_name + ": " + e.what());
-    out->flush();
-    // The GeoJSON keeps the features before the fault, as the CSV does (its writer closes the collection); a
-    // picture of part of the input would mislead, so none is left.
-    if (report_file.is_open()) {
-      report_file.close();
-      std::remove(args.report.c_str());
-    }
-    return fail_run(input_name + ": " + e.what() + " (" + std::to_string(summary.read()) +
-                    " feature rows were written before it)");
+    // No output file is left: the temporary files are removed when their owners go (a CSV on standard output
+    // keeps the rows already written).
+    const bool to_stdout = args.out.empty() || args.out == "-";
+    return fail_run(input_name + ": " + e.what() + " (" + std::to_string(summary.read()) + " feature rows " +
+                    (to_stdout ? "were written to standard output before it; no other output was kept)"
+                               : "were read before it; no output file was written)"));
   }
   progress.finish();
-  out->flush();
-  if (!*out) return fail_run("could not write the CSV output" + (args.out.empty() ? "" : " to " + args.out));
-
-  if (geojson) {
-    geojson->finish();
-    geojson_file.flush();
-    if (!geojson_file) return fail_run("could not write " + args.geojson);
-  }
-  if (report) {
-    if (report_html) report->write_html(report_file);
-    else report->write_svg(report_file);
-    report_file.flush();
-    if (!report_file) return fail_run("could not write " + args.report);
-  }
-  const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units};
-  if (!args.summary.empty()) {
-    summary_file << summary.to_json(context).dump(2) << "\n";
-    summary_file.flush();
-    if (!summary_file) return fail_run("could not write " + args.summary);
+  const std::vector<InputProblem>& problems = reader->problems();
+  if (summary.read() == 0 && !problems.empty())  // damaged, and not one feature in it: nothing was audited
+    return fail_run(input_name + ": " + problems.front().message + "; no feature could be read");
+  const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units, &problems};
+  try {
+    if (geojson) geojson->finish();
+    if (report) {
+      if (report_html) report->write_html(report_file->stream());
+      else report->write_svg(report_file->stream());
+    }
+    if (summary_file) summary_file->stream() << summary.to_json(context).dump(2) << "\n";
+    // Every file is complete before the first is renamed into place.
+    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+      if (*file) (*file)->finish();
+    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+      if (*file) (*file)->commit();
+  } catch (const cli::OutputError& e) {
+    return fail_run(e.what());
   }
   std::cerr << summary.to_text(context);
   if (summary.read() == 0) std::cerr << "  note: the input holds no features\n";
-  return summary.exit_status() == 0 ? exit_ok : exit_findings;
+  return summary.exit_status(context) == 0 ? exit_ok : exit_findings;
 }
 
 const char* audit_summary_line = "audit every feature of a file on the grid of a projected CRS";
@@ -324,9 +307,13 @@ const char* audit_footer =
     "  acre             international foot (0.3048 m), international acre (4 046.856 422 4 m2)\n"
     "  us-survey-acre   US survey foot (1200/3937 m), US survey acre (4 046.872 609 874 m2)\n"
     "\n"
+    "CRS files: without --trusted-crs, grid and init files named by a CRS (+nadgrids=, +grids=, +geoidgrids=,\n"
+    "  +init=) are opened only when they are regular files inside PROJ's data directories.\n"
+    "\n"
     "Exit status:\n"
     "  0  every feature is ok and none fails a tolerance\n"
-    "  1  some feature fails a tolerance, or is invalid or unmeasurable\n"
+    "  1  some feature fails a tolerance, or is invalid or unmeasurable, or the input is damaged and a part of it\n"
+    "     was skipped (a partial run: the skipped bytes are an invalid row and are listed in the summary)\n"
     "  2  nothing could be audited: a bad option, an unreadable input, an unknown CRS (one-line reason)\n"
     "\n"
     "Examples:\n"
@@ -341,6 +328,13 @@ const char* audit_footer =
 }  // namespace
 
 int main(int argc, char** argv) {
+  // A closed standard descriptor would be taken by the next file opened (PROJ's database, an output), which would
+  // then be read as the input or written with the rows: hold each on /dev/null, and remember a closed input.
+  for (const int fd : {STDIN_FILENO, STDOUT_FILENO, STDERR_FILENO}) {
+    if (fcntl(fd, F_GETFD) != -1 || errno != EBADF) continue;
+    if (open("/dev/null", fd == STDIN_FILENO ? O_RDONLY : O_WRONLY) == fd && fd == STDIN_FILENO)
+      cli::standard_input_closed() = true;
+  }
   std::ios::sync_with_stdio(false);
   std::cin.tie(nullptr);  // the input is read on a worker thread while rows go to std::cout (issue 17)
   CLI::App app{"gridtruth: how wrong do lengths and areas become on the grid of a projected CRS?"};
@@ -388,6 +382,7 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   audit->add_option("--threads", args.threads, "worker threads; 0 uses every hardware thread")
       ->capture_default_str();
+  cli::add_trusted_crs_flag(audit);
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
 
   // The other commands register themselves (examples/commands.hpp).
@@ -415,6 +410,8 @@ int main(int argc, char** argv) {
       if (c == '\n') c = ' ';
     return fail_run(what + " (see 'gridtruth " + (app.got_subcommand(audit) ? "audit " : "") + "--help')");
   }
+  // CRS definitions come from the command line and input files: PROJ opens only its own data files unless told.
+  set_crs_file_access(cli::trusted_crs_given() ? CrsFileAccess::any : CrsFileAccess::data_directories);
   for (const cli::Command& command : commands) {
     if (!app.got_subcommand(command.app)) continue;
     try {

@@ -11,6 +11,8 @@
 #include <vector>
 
 #include "gridtruth/geometry.hpp"
+#include "commands.hpp"
+#include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 
 namespace gridtruth::cli {
@@ -29,6 +31,8 @@ inline LoadedFeatures load_features(const std::string& input, const std::string&
   ro.format = parse_input_format(format);
   ro.wkt_field = wkt_field;
   ro.height_field = height_field;
+  if (input == "-" && standard_input_closed())
+    throw Error(ErrorCode::io, "cannot read standard input: it is closed");
   FeatureReader reader(input, ro);
   LoadedFeatures out;
   while (auto f = reader.next()) {

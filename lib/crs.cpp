@@ -1,6 +1,15 @@
 #include "gridtruth/crs.hpp"
 
+#include <fcntl.h>
+#include <limits.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
 #include <algorithm>
+#include <atomic>
+#include <cstdio>
+#include <cstdlib>
+#include <vector>
 #include <cctype>
 #include <cmath>
 
@@ -10,11 +19,103 @@
 namespace gridtruth {
 namespace detail {
 
+namespace {
+
+std::atomic<CrsFileAccess> file_access{CrsFileAccess::any};
+
+// ---- A PROJ file API that opens only regular files inside PROJ's data directories -------------------------------
+
+/// The data directories, resolved (symbolic links, ".."), each ending in "/". Read once: PROJ reads its
+/// environment once too.
+const std::vector<std::string>& data_directories() {
+  static const std::vector<std::string> dirs = [] {
+    std::vector<std::string> out;
+    std::string paths = proj_info().searchpath ? proj_info().searchpath : "";
+    Context ctx(proj_context_create());
+    if (ctx) {
+      if (const char* user = proj_context_get_user_writable_directory(ctx.get(), 0)) paths += std::string(":") + user;
+    }
+    std::size_t start = 0;
+    while (start <= paths.size()) {
+      std::size_t end = paths.find_first_of(":;", start);
+      if (end == std::string::npos) end = paths.size();
+      const std::string dir = paths.substr(start, end - start);
+      char resolved[PATH_MAX];
+      if (!dir.empty() && ::realpath(dir.c_str(), resolved) != nullptr) {
+        std::string r = resolved;
+        if (r.back() != '/') r += '/';
+        out.push_back(r);
+      }
+      start = end + 1;
+    }
+    return out;
+  }();
+  return dirs;
+}
+
+/// Whether `filename` resolves to a regular file inside a data directory.
+bool allowed_file(const char* filename) {
+  char resolved[PATH_MAX];
+  if (filename == nullptr || ::realpath(filename, resolved) == nullptr) return false;
+  const std::string path = resolved;
+  bool inside = false;
+  for (const std::string& dir : data_directories()) inside = inside || path.compare(0, dir.size(), dir) == 0;
+  struct stat st {};
+  return inside && ::stat(resolved, &st) == 0 && S_ISREG(st.st_mode);
+}
+
+PROJ_FILE_HANDLE* restricted_open(PJ_CONTEXT*, const char* filename, PROJ_OPEN_ACCESS access, void*) {
+  if (access != PROJ_OPEN_ACCESS_READ_ONLY || !allowed_file(filename)) return nullptr;
+  // O_NONBLOCK: even a FIFO swapped in after the check cannot block the open; fstat then refuses it.
+  const int fd = ::open(filename, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+  if (fd < 0) return nullptr;
+  struct stat st {};
+  if (::fstat(fd, &st) != 0 || !S_ISREG(st.st_mode)) {
+    ::close(fd);
+    return nullptr;
+  }
+  ::fcntl(fd, F_SETFL, ::fcntl(fd, F_GETFL) & ~O_NONBLOCK);
+  FILE* file = ::fdopen(fd, "rb");
+  if (file == nullptr) ::close(fd);
+  return reinterpret_cast<PROJ_FILE_HANDLE*>(file);
+}
+std::size_t restricted_read(PJ_CONTEXT*, PROJ_FILE_HANDLE* h, void* buffer, std::size_t n, void*) {
+  return std::fread(buffer, 1, n, reinterpret_cast<FILE*>(h));
+}
+std::size_t restricted_write(PJ_CONTEXT*, PROJ_FILE_HANDLE*, const void*, std::size_t, void*) { return 0; }
+int restricted_seek(PJ_CONTEXT*, PROJ_FILE_HANDLE* h, long long offset, int whence, void*) {
+  return ::fseeko(reinterpret_cast<FILE*>(h), static_cast<off_t>(offset), whence) == 0;
+}
+unsigned long long restricted_tell(PJ_CONTEXT*, PROJ_FILE_HANDLE* h, void*) {
+  return static_cast<unsigned long long>(::ftello(reinterpret_cast<FILE*>(h)));
+}
+void restricted_close(PJ_CONTEXT*, PROJ_FILE_HANDLE* h, void*) { std::fclose(reinterpret_cast<FILE*>(h)); }
+int restricted_exists(PJ_CONTEXT*, const char* filename, void*) { return allowed_file(filename); }
+int restricted_refuse_path(PJ_CONTEXT*, const char*, void*) { return 0; }
+int restricted_rename(PJ_CONTEXT*, const char*, const char*, void*) { return 0; }
+
+const PROJ_FILE_API restricted_file_api = {1,
+                                           restricted_open,
+                                           restricted_read,
+                                           restricted_write,
+                                           restricted_seek,
+                                           restricted_tell,
+                                           restricted_close,
+                                           restricted_exists,
+                                           restricted_refuse_path,
+                                           restricted_refuse_path,
+                                           restricted_rename};
+
+}  // namespace
+
 Context make_context() {
   Context ctx(proj_context_create());
   if (!ctx) throw Error(ErrorCode::unknown_crs, "cannot create a PROJ context");
   proj_log_level(ctx.get(), PJ_LOG_NONE);
   proj_context_set_enable_network(ctx.get(), 0);
+  if (file_access.load() == CrsFileAccess::data_directories &&
+      !proj_context_set_fileapi(ctx.get(), &restricted_file_api, nullptr))
+    throw Error(ErrorCode::unknown_crs, "cannot restrict the files PROJ may open");
   return ctx;
 }
 
@@ -22,7 +123,14 @@ std::string last_error(PJ_CONTEXT* ctx) {
   const int err = proj_context_errno(ctx);
   if (err == 0) return {};
   const char* text = proj_context_errno_string(ctx, err);
-  return text ? text : "PROJ error " + std::to_string(err);
+  // PROJ's text for a code it has no words for ("Unknown error (code 4096)") names nothing: say what is known.
+  if (text == nullptr || std::string(text).rfind("Unknown error", 0) == 0) {
+    if (err == PROJ_ERR_OTHER) return "PROJ gave no reason";
+    if (err >= PROJ_ERR_INVALID_OP && err < PROJ_ERR_COORD_TRANSFM)
+      return "PROJ cannot build this operation (error " + std::to_string(err) + ")";
+    return "PROJ error " + std::to_string(err);
+  }
+  return text;
 }
 
 namespace {
@@ -160,5 +268,8 @@ CrsInfo describe_crs(const std::string& definition) {
   detail::Pj crs = detail::resolve_crs(ctx.get(), definition);
   return detail::describe(ctx.get(), crs.get(), definition);
 }
+
+void set_crs_file_access(CrsFileAccess access) noexcept { detail::file_access.store(access); }
+CrsFileAccess crs_file_access() noexcept { return detail::file_access.load(); }
 
 }  // namespace gridtruth

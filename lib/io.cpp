@@ -1,4 +1,7 @@
 // gridtruth — the feature reader facade: opening, format sniffing, numbering.
+#include <sys/stat.h>
+#include <unistd.h>
+
 #include <cctype>
 #include <cerrno>
 #include <charconv>
@@ -36,6 +39,12 @@ bool Source::fill() {
   in_->read(buf_.data() + old, static_cast<std::streamsize>(chunk_bytes));
   const auto got = static_cast<std::size_t>(in_->gcount());
   buf_.resize(old + got);
+  if (got == 0 && in_->bad()) {
+    const int error = errno;
+    at_end_ = true;
+    throw Error(ErrorCode::io, std::string("cannot read the input: ") +
+                                   (error != 0 ? std::strerror(error) : "the stream reports a read error"));
+  }
   if (got == 0) {
     at_end_ = true;
     return false;
@@ -172,14 +181,22 @@ FeatureReader::FeatureReader(std::istream& in, ReaderOptions options)
 
 namespace {
 std::unique_ptr<std::ifstream> open_file(const std::string& path) {
+  struct stat st {};
+  if (::stat(path.c_str(), &st) == 0 && S_ISDIR(st.st_mode))
+    throw Error(ErrorCode::io, "cannot read " + detail::printable_text(path) + ": it is a directory, not a file");
   auto file = std::make_unique<std::ifstream>(path, std::ios::binary);
-  if (!*file) throw Error(ErrorCode::io, "cannot open " + path + ": " + std::strerror(errno));
+  if (!*file) throw Error(ErrorCode::io, "cannot open " + detail::printable_text(path) + ": " + std::strerror(errno));
   return file;
 }
 }  // namespace
 
 FeatureReader::FeatureReader(const std::string& path, ReaderOptions options) {
   if (path == "-") {
+    struct stat st {};
+    if (::fstat(STDIN_FILENO, &st) != 0)
+      throw Error(ErrorCode::io, "cannot read standard input: it is closed (" + std::string(std::strerror(errno)) +
+                                     ")");
+    if (S_ISDIR(st.st_mode)) throw Error(ErrorCode::io, "cannot read standard input: it is a directory");
     auto in = std::make_unique<StdinStream>();
     std::istream& stream = *in;
     impl_ = std::make_unique<Impl>(stream, std::move(options), std::move(in));
@@ -209,6 +226,9 @@ std::optional<RawFeature> FeatureReader::next_raw() {
   std::optional<RawFeature> raw;
   try {
     raw = s.reader->next_raw();
+  } catch (const Error& e) {
+    s.done = true;
+    throw Error(e.code(), detail::printable_text(e.what()));
   } catch (...) {
     s.done = true;
     throw;
@@ -218,6 +238,9 @@ std::optional<RawFeature> FeatureReader::next_raw() {
     return std::nullopt;
   }
   raw->position = ++s.count;
+  auto& problems = s.reader->problems;
+  if (!problems.empty() && problems.back().position == detail::FormatReader::row_pending)
+    problems.back().position = raw->position;
   return raw;
 }
 
@@ -231,6 +254,7 @@ InputFeature FeatureReader::parse(RawFeature raw) const {
   }
   feature.position = raw.position;
   if (feature.id.empty()) feature.id = std::to_string(feature.position);
+  feature.error = detail::printable_text(feature.error);
   if (!feature.geometry && feature.error.empty()) feature.error = "no geometry";
   if (feature.geometry && feature.geometry->vertex_count() == 0) {  // WKT EMPTY, GeoJSON "coordinates": []
     feature.error = "empty geometry: " + std::string(to_string(feature.geometry->type)) + " with no coordinates";
@@ -272,17 +296,87 @@ std::string format_number(double value) {
   return text;
 }
 
-std::string csv_field(std::string_view text) {
-  if (text.find_first_of(",\"\r\n") == std::string_view::npos) return std::string(text);
+namespace detail {
+
+std::string printable_text(std::string_view text) {
   std::string out;
-  out.reserve(text.size() + 2);
+  out.reserve(text.size());
+  const auto* p = reinterpret_cast<const unsigned char*>(text.data());
+  const std::size_t n = text.size();
+  auto escape = [&out](unsigned char c) {
+    static const char digits[] = "0123456789ABCDEF";
+    out += "\\x";
+    out += digits[c >> 4];
+    out += digits[c & 15];
+  };
+  for (std::size_t i = 0; i < n;) {
+    const unsigned char c = p[i];
+    if (c < 0x80) {
+      if (c < 0x20 || c == 0x7F) escape(c);
+      else out += static_cast<char>(c);
+      ++i;
+      continue;
+    }
+    // The length of a well-formed sequence starting here (RFC 3629 section 4), 0 when ill-formed.
+    std::size_t len = 0;
+    if (c >= 0xC2 && c <= 0xDF) len = 2;
+    else if (c >= 0xE0 && c <= 0xEF) len = 3;
+    else if (c >= 0xF0 && c <= 0xF4) len = 4;
+    bool ok = len > 0 && i + len <= n;
+    for (std::size_t k = 1; ok && k < len; ++k) ok = (p[i + k] & 0xC0) == 0x80;
+    if (ok && len == 3) ok = !(c == 0xE0 && p[i + 1] < 0xA0) && !(c == 0xED && p[i + 1] > 0x9F);
+    if (ok && len == 4) ok = !(c == 0xF0 && p[i + 1] < 0x90) && !(c == 0xF4 && p[i + 1] > 0x8F);
+    if (!ok) {
+      escape(c);
+      ++i;
+      continue;
+    }
+    out.append(text.data() + i, len);
+    i += len;
+  }
+  return out;
+}
+
+bool spreadsheet_formula_start(std::string_view text) {
+  if (text.empty()) return false;
+  const char c = text.front();
+  if (c != '=' && c != '+' && c != '-' && c != '@' && c != '\t' && c != '\r') return false;
+  // A whole decimal number ("-12.5", "+3e2") stays a number: a spreadsheet reads it as one, never as a formula.
+  if (c == '+' || c == '-') {
+    double value = 0;
+    const char* first = text.data() + 1;  // from_chars takes no '+'; the sign is checked here
+    const char* last = text.data() + text.size();
+    if (first < last && (*first == '.' || std::isdigit(static_cast<unsigned char>(*first)))) {
+      const auto [end, ec] = std::from_chars(first, last, value);
+      if (ec == std::errc() && end == last) return false;
+    }
+  }
+  return true;
+}
+
+}  // namespace detail
+
+std::string csv_field(std::string_view text) {
+  const bool formula = detail::spreadsheet_formula_start(text);
+  if (!formula && text.find_first_of(",\"\r\n") == std::string_view::npos) return std::string(text);
+  std::string inner;
+  if (formula) inner = "'";
+  inner += text;
+  if (inner.find_first_of(",\"\r\n") == std::string::npos) return inner;
+  std::string out;
+  out.reserve(inner.size() + 2);
   out.push_back('"');
-  for (const char c : text) {
+  for (const char c : inner) {
     if (c == '"') out.push_back('"');
     out.push_back(c);
   }
   out.push_back('"');
   return out;
+}
+
+const std::vector<InputProblem>& FeatureReader::problems() const noexcept {
+  static const std::vector<InputProblem> none;
+  return impl_->reader ? impl_->reader->problems : none;
 }
 
 InputFormat FeatureReader::format() const noexcept { return impl_->format; }

@@ -36,41 +36,77 @@ std::string trim(std::string_view s) {
 struct Record {
   std::vector<std::string> fields;
   std::size_t line = 0;
+  std::uint64_t first_byte = 0;
   std::string error;  // a malformed record (still one feature)
+  bool damaged = false;  // an open quote was cut at the end of its line or of the input; `error` says so
 };
 
 /// Reads one RFC 4180 record. Returns false at the end of the input (no record).
+/// A quote still open at the end of the input that spans lines cannot be told from a quote missing where it opens
+/// (a missing closing quote swallows every later record): the record is ended at the end of the quote's first line,
+/// and the bytes after it go back to the source to be read as the next records.
 bool read_record(Source& src, Record& r) {
   r.fields.clear();
   r.error.clear();
+  r.damaged = false;
   r.line = src.line();
+  r.first_byte = src.offset();
   if (src.peek() < 0) return false;
   std::string field;
   for (;;) {
     int c = src.peek();
     if (c == '"') {  // a quoted field
       const std::size_t opened = src.line();
+      std::string raw;  // the bytes after the opening quote, as they are in the input
       src.get();
+      bool closed = false;
       for (;;) {
         c = src.get();
-        if (c < 0) {
-          r.error = "the input ends inside a quoted field opened on line " + std::to_string(opened) +
-                    " (unterminated quote, RFC 4180 section 2.7)";
-          r.fields.push_back(std::move(field));
-          return true;
-        }
+        if (c < 0) break;
+        raw.push_back(static_cast<char>(c));
         if (c == '"') {
           if (src.peek() == '"') {
-            src.get();
+            raw.push_back(static_cast<char>(src.get()));
             field.push_back('"');
             continue;
           }
+          closed = true;
           break;
         }
         field.push_back(static_cast<char>(c));
       }
       c = src.peek();
-      if (c >= 0 && c != ',' && c != '\r' && c != '\n') {
+      const bool text_after = closed && c >= 0 && c != ',' && c != '\r' && c != '\n';
+      const std::size_t newline = raw.find('\n');
+      const bool more_lines = newline != std::string::npos &&
+                              raw.find_first_not_of(" \t\r\n", newline + 1) != std::string::npos;
+      if ((!closed || text_after) && more_lines) {
+        // A quote that never closes, or closes with text after it, across a line break: most likely a quote is
+        // missing where this one opens, and the quotes of the later records pair up wrongly. The record ends at
+        // the end of the quote's first line; the bytes after it are read again as the next records.
+        src.unread(std::string_view(raw).substr(newline + 1));
+        field.clear();
+        for (std::size_t k = 0; k < newline; ++k) {
+          if (raw[k] == '"' && k + 1 < newline && raw[k + 1] == '"') ++k;
+          if (raw[k] != '\r' || k + 1 != newline) field.push_back(raw[k]);
+        }
+        if (r.error.empty())
+          r.error = "a quote opened on line " + std::to_string(opened) + " is not closed on that line and " +
+                    (closed ? "its closing quote is followed by text" : "never closes") +
+                    " (unterminated quote, RFC 4180 section 2.7): the record was ended at the end of line " + std::to_string(opened) +
+                    " and reading resumed on line " + std::to_string(src.line());
+        r.damaged = true;
+        r.fields.push_back(std::move(field));
+        return true;
+      }
+      if (!closed) {
+        r.error = "the input ends inside a quoted field opened on line " + std::to_string(opened) +
+                  " (unterminated quote, RFC 4180 section 2.7)";
+        r.damaged = true;
+        r.fields.push_back(std::move(field));
+        return true;
+      }
+      if (text_after) {
         if (r.error.empty())
           r.error = "text after the closing quote of field " + std::to_string(r.fields.size() + 1) +
                     " (RFC 4180 section 2.7)";
@@ -90,7 +126,7 @@ bool read_record(Source& src, Record& r) {
 
 class CsvReader final : public FormatReader {
  public:
-  CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options) {}
+  CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options), problems_(problems) {}
 
   std::optional<RawFeature> next_raw() override {
     std::optional<InputFeature> f = read();
@@ -115,6 +151,17 @@ class CsvReader final : public FormatReader {
     if (id_column_ && *id_column_ < r.fields.size()) f.id = r.fields[*id_column_];
     if (!r.error.empty()) {
       f.error = "line " + std::to_string(r.line) + ": " + r.error;
+      if (r.damaged) {  // a quote open to the end of its line or of the input
+        InputProblem p;
+        p.first_byte = r.first_byte;
+        p.end_byte = src_.offset();
+        p.line = r.line;
+        p.position = FormatReader::row_pending;
+        p.message = f.error + " (bytes " + std::to_string(p.first_byte) + " to " + std::to_string(p.end_byte) +
+                    " skipped)";
+        f.error = p.message;
+        problems_.push_back(std::move(p));
+      }
       return f;
     }
     if (r.fields.size() != columns_) {
@@ -159,7 +206,7 @@ class CsvReader final : public FormatReader {
     src_.skip_bom();
     Record h;
     if (!read_record(src_, h))
-      throw Error(ErrorCode::parse, "CSV: empty input (a header line naming the columns is needed)");
+      throw Error(ErrorCode::parse, "CSV: the input is empty (a header line naming the columns is needed)");
     if (!h.error.empty()) throw Error(ErrorCode::parse, "CSV header (line 1): " + h.error);
     columns_ = h.fields.size();
     header_ = h.fields;
@@ -190,6 +237,7 @@ class CsvReader final : public FormatReader {
 
   Source& src_;
   const ReaderOptions& options_;
+  std::vector<InputProblem>& problems_;
   bool header_read_ = false;
   std::size_t columns_ = 0;
   std::size_t wkt_column_ = 0;

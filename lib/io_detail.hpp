@@ -9,6 +9,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <vector>
 
 #include "gridtruth/geometry.hpp"
 #include "gridtruth/io.hpp"
@@ -52,6 +53,14 @@ class Source {
   }
   /// Up to n bytes ahead without consuming them (fewer at the end of the input).
   std::string_view look_ahead(std::size_t n);
+  /// Puts `text` back in front of the unread bytes, as if it had not been consumed (offset and line go back too):
+  /// a reader that cut too far resumes inside what it cut.
+  void unread(std::string_view text) {
+    buf_.replace(0, pos_, text);
+    pos_ = 0;
+    offset_ -= text.size();
+    for (const char c : text) line_ -= c == '\n';
+  }
   /// Skips a UTF-8 byte order mark if the input starts with one.
   void skip_bom();
 
@@ -77,7 +86,19 @@ class FormatReader {
  public:
   virtual ~FormatReader() = default;
   virtual std::optional<RawFeature> next_raw() = 0;
+
+  /// Spans skipped and damaged ends (FeatureReader::problems()). A reader that returns a feature standing for the
+  /// span it just recorded sets `position` to row_pending; the facade puts the feature's position there.
+  std::vector<InputProblem> problems;
+  static constexpr std::size_t row_pending = static_cast<std::size_t>(-1);
 };
+
+/// The text with every byte that is not part of valid UTF-8, and every control character, written as \xNN: safe
+/// to put in a message, a CSV cell or a JSON string.
+std::string printable_text(std::string_view text);
+
+/// Whether a spreadsheet would take this text cell for a formula (see csv_field()).
+bool spreadsheet_formula_start(std::string_view text);
 
 /// Parses a JSON feature cut by the GeoJSON or ndjson reader into `f` (which holds the line already): simdjson
 /// first, nlohmann-json where the exact nlohmann result needs it (malformed JSON, \u escapes, signed zeros).

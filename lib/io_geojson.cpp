@@ -58,6 +58,21 @@ struct NeedsReference {};
 
 [[noreturn]] void problem(std::string message) { throw FeatureProblem{std::move(message)}; }
 
+
+/// A message of nlohmann-json without its "[json.exception.KIND.N] " prefix.
+std::string json_message(const std::exception& e) {
+  std::string what = e.what();
+  if (what.rfind("[json.exception.", 0) == 0) {
+    const auto bracket = what.find("] ");
+    if (bracket != std::string::npos) what.erase(0, bracket + 2);
+  }
+  return what;
+}
+
+/// Whether a JSON text nests arrays and objects deeper than `limit` (lexically; a malformed text is measured as far
+/// as its brackets go).
+bool nested_deeper_than(std::string_view text, std::size_t limit);
+
 // ---- The two adapters: the same questions asked of an nlohmann value and of a simdjson DOM element ------------
 
 struct NlohmannJson {
@@ -341,7 +356,7 @@ void feature_from_value(typename A::Value j, const ReaderOptions& options, Input
     f.error = p.message;
   } catch (const json::exception& e) {  // a number out of range for get<>, and the like
     f.geometry.reset();
-    f.error = e.what();
+    f.error = "a value of the feature cannot be read: " + json_message(e);
   }
 }
 
@@ -361,6 +376,12 @@ std::string parse_error_text(const json::parse_error& e) {
 /// starts (absent: the text was rebuilt, so byte offsets would not be the input's).
 void feature_from_text_reference(std::string_view text, std::optional<std::uint64_t> base,
                                  const ReaderOptions& options, InputFeature& f) {
+  // Deep texts never reach nlohmann-json, whose dump() recurses (simdjson refuses them too: see make_parser).
+  if (nested_deeper_than(text, max_json_depth)) {
+    f.error = "arrays and objects are nested more than " + std::to_string(max_json_depth) +
+              " levels deep, more than this reader accepts";
+    return;
+  }
   json j;
   try {
     j = json::parse(text);
@@ -370,7 +391,7 @@ void feature_from_text_reference(std::string_view text, std::optional<std::uint6
     f.error += parse_error_text(e);
     return;
   } catch (const json::exception& e) {
-    f.error = std::string("malformed JSON: ") + e.what();
+    f.error = "malformed JSON: " + json_message(e);
     return;
   }
   feature_from_value<NlohmannJson>(&j, options, f);
@@ -389,14 +410,22 @@ bool has_unicode_escape(std::string_view text) {
 /// Texts above this size are parsed by a parser of their own, so that a worker does not keep a huge buffer.
 constexpr std::size_t large_text_bytes = std::size_t{1} << 20;
 
+/// A simdjson parser that fails (DEPTH_ERROR) on texts nested deeper than max_json_depth, which then go to the
+/// reference path and its message.
+std::unique_ptr<simdjson::dom::parser> make_parser() {
+  auto parser = std::make_unique<simdjson::dom::parser>();
+  if (parser->allocate(simdjson::SIMDJSON_PADDING, max_json_depth) != simdjson::SUCCESS) throw std::bad_alloc();
+  return parser;
+}
+
 /// Parses with simdjson and fills `f`; false (and `f` untouched) when nlohmann must read the text instead.
 bool feature_from_text_fast(const std::string& text, const ReaderOptions& options, InputFeature& f) {
   if (has_unicode_escape(text)) return false;
-  thread_local simdjson::dom::parser shared_parser;
+  thread_local std::unique_ptr<simdjson::dom::parser> shared_parser = make_parser();
   std::unique_ptr<simdjson::dom::parser> own_parser;
-  simdjson::dom::parser* parser = &shared_parser;
+  simdjson::dom::parser* parser = shared_parser.get();
   if (text.size() > large_text_bytes) {
-    own_parser = std::make_unique<simdjson::dom::parser>();
+    own_parser = make_parser();
     parser = own_parser.get();
   }
   // simdjson reads up to SIMDJSON_PADDING bytes past the end: a string with that much spare capacity is used in
@@ -420,7 +449,7 @@ void finish_json_feature(const RawFeature& raw, InputFeature& f) {
     f.error = "line " + std::to_string(f.line) + ": " + f.error;
 }
 
-enum class Scan { complete, end_of_input };
+enum class Scan { complete, end_of_input, unmatched };
 
 /// Bytes that matter outside strings when cutting an object or array: quotes and brackets.
 struct StructuralTable {
@@ -433,71 +462,92 @@ struct StructuralTable {
 };
 constexpr StructuralTable structural{};
 
-/// Cuts one JSON value out of the source (lexically: strings, escapes and bracket nesting). Throws Error(parse)
-/// when brackets do not match. Objects and arrays are scanned over the buffered bytes and appended in bulk, with
-/// SIMDJSON_PADDING spare bytes of capacity so the parser can read the text in place.
-Scan scan_value(Source& src, std::string& out) {
+/// The lexical state of an object or array being cut: strings, escapes and bracket nesting, fed in chunks.
+struct BracketLexer {
+  std::vector<char> stack;  // the closing bracket each open one expects
+  std::size_t depth_max = 0;
+  bool in_string = false;
+  bool escaped = false;  // the previous chunk ended on a backslash inside a string
+
+  /// Scans data[0, n) from this state; `used` is the bytes taken (through the closing or the unmatched bracket
+  /// when the scan stops there). The first byte fed must open the value.
+  Scan feed(const char* data, std::size_t n, std::size_t& used) {
+    std::size_t i = 0;
+    if (escaped && n > 0) {
+      i = 1;
+      escaped = false;
+    }
+    while (i < n) {
+      if (in_string) {
+        // Jump to the next quote or backslash.
+        while (i < n && data[i] != '"' && data[i] != '\\') ++i;
+        if (i == n) break;
+        if (data[i] == '\\') {
+          if (i + 1 == n) {
+            escaped = true;
+            i = n;
+            break;
+          }
+          i += 2;
+          continue;
+        }
+        in_string = false;
+        ++i;
+        continue;
+      }
+      while (i < n && !structural.flag[static_cast<unsigned char>(data[i])]) ++i;
+      if (i == n) break;
+      const char b = data[i++];
+      if (b == '"') {
+        in_string = true;
+      } else if (b == '{' || b == '[') {
+        stack.push_back(b == '{' ? '}' : ']');
+        depth_max = std::max(depth_max, stack.size());
+      } else if (stack.empty() || stack.back() != b) {
+        used = i;
+        return Scan::unmatched;
+      } else {
+        stack.pop_back();
+        if (stack.empty()) {
+          used = i;
+          return Scan::complete;
+        }
+      }
+    }
+    used = i;
+    return Scan::end_of_input;
+  }
+};
+
+bool nested_deeper_than(std::string_view text, std::size_t limit) {
+  const std::size_t open = text.find_first_of("{[");
+  if (open == std::string_view::npos) return false;
+  BracketLexer lexer;
+  std::size_t used = 0;
+  lexer.feed(text.data() + open, text.size() - open, used);
+  return lexer.depth_max > limit;
+}
+
+/// Cuts one JSON value out of the source (lexically: strings, escapes and bracket nesting). Objects and arrays are
+/// scanned over the buffered bytes and appended in bulk, with SIMDJSON_PADDING spare bytes of capacity so the
+/// parser can read the text in place. On `unmatched` the text ends with the bracket that did not match; on
+/// `end_of_input` it holds the rest of the input. `depth_max` (when given) receives the deepest nesting seen.
+Scan scan_value(Source& src, std::string& out, std::size_t* depth_max = nullptr) {
   out.clear();
   int c = src.peek();
   if (c == '{' || c == '[') {
-    std::vector<char> stack;
-    bool in_string = false;
-    bool escaped = false;  // the previous chunk ended on a backslash inside a string
+    BracketLexer lexer;
     for (;;) {
       const std::string_view buf = src.buffered();
       if (buf.empty()) return Scan::end_of_input;
-      const char* const data = buf.data();
-      const std::size_t n = buf.size();
-      std::size_t i = 0;
-      bool complete = false;
-      if (escaped) {
-        i = 1;
-        escaped = false;
-      }
-      while (i < n) {
-        if (in_string) {
-          // Jump to the next quote or backslash.
-          while (i < n && data[i] != '"' && data[i] != '\\') ++i;
-          if (i == n) break;
-          if (data[i] == '\\') {
-            if (i + 1 == n) {
-              escaped = true;
-              i = n;
-              break;
-            }
-            i += 2;
-            continue;
-          }
-          in_string = false;
-          ++i;
-          continue;
-        }
-        while (i < n && !structural.flag[static_cast<unsigned char>(data[i])]) ++i;
-        if (i == n) break;
-        const char b = data[i++];
-        if (b == '"') {
-          in_string = true;
-        } else if (b == '{' || b == '[') {
-          stack.push_back(b == '{' ? '}' : ']');
-        } else if (stack.empty() || stack.back() != b) {
-          out.append(data, i);
-          src.consume(i);
-          throw Error(ErrorCode::parse, "unmatched \"" + std::string(1, b) + "\" at byte " +
-                                            std::to_string(src.offset() - 1) + " (line " +
-                                            std::to_string(src.line()) + ")");
-        } else {
-          stack.pop_back();
-          if (stack.empty()) {
-            complete = true;
-            break;
-          }
-        }
-      }
-      if (out.capacity() < out.size() + i + simdjson::SIMDJSON_PADDING)
-        out.reserve(std::max(2 * out.capacity(), out.size() + i + simdjson::SIMDJSON_PADDING));
-      out.append(data, i);
-      src.consume(i);
-      if (complete) return Scan::complete;
+      std::size_t used = 0;
+      const Scan scan = lexer.feed(buf.data(), buf.size(), used);
+      if (out.capacity() < out.size() + used + simdjson::SIMDJSON_PADDING)
+        out.reserve(std::max(2 * out.capacity(), out.size() + used + simdjson::SIMDJSON_PADDING));
+      out.append(buf.data(), used);
+      src.consume(used);
+      if (depth_max) *depth_max = lexer.depth_max;
+      if (scan != Scan::end_of_input) return scan;
     }
   }
   if (c == '"') {
@@ -520,6 +570,33 @@ Scan scan_value(Source& src, std::string& out) {
   return c < 0 ? Scan::end_of_input : Scan::complete;
 }
 
+/// Where, at or after `from`, a feature object plausibly starts in `text`: a "{" after a "," (spaces between),
+/// whose first member is one a GeoJSON Feature has, and whose brackets close (or are still open at the end of
+/// `text`, which may continue) followed by "," or "]". npos when there is none.
+std::size_t next_feature_start(std::string_view text, std::size_t from) {
+  static constexpr std::string_view members[] = {"\"type\"", "\"geometry\"", "\"properties\"", "\"id\"",
+                                                 "\"bbox\""};
+  for (std::size_t i = text.find('{', from); i != std::string_view::npos; i = text.find('{', i + 1)) {
+    std::size_t before = i;
+    while (before > 0 && is_json_space(static_cast<unsigned char>(text[before - 1]))) --before;
+    if (before == 0 || text[before - 1] != ',') continue;
+    std::size_t k = i + 1;
+    while (k < text.size() && is_json_space(static_cast<unsigned char>(text[k]))) ++k;
+    bool member = false;
+    for (const std::string_view m : members) member = member || text.substr(k, m.size()) == m;
+    if (!member) continue;
+    BracketLexer lexer;
+    std::size_t used = 0;
+    const Scan scan = lexer.feed(text.data() + i, text.size() - i, used);
+    if (scan == Scan::unmatched) continue;
+    if (scan == Scan::end_of_input) return i;
+    k = i + used;
+    while (k < text.size() && is_json_space(static_cast<unsigned char>(text[k]))) ++k;
+    if (k == text.size() || text[k] == ',' || text[k] == ']') return i;
+  }
+  return std::string_view::npos;
+}
+
 void skip_space(Source& src) {
   while (is_json_space(src.peek())) src.get();
 }
@@ -539,7 +616,8 @@ std::string describe_byte(int c) {
 
 class GeoJsonReader final : public FormatReader {
  public:
-  GeoJsonReader(Source& src, const ReaderOptions& options) : src_(src), options_(options) {}
+  GeoJsonReader(Source& src, const ReaderOptions& options)
+      : src_(src), options_(options), problems_(problems) {}
 
   std::optional<RawFeature> next_raw() override {
     if (state_ == State::start) start();
@@ -559,7 +637,7 @@ class GeoJsonReader final : public FormatReader {
     src_.skip_bom();
     skip_space(src_);
     const int c = src_.peek();
-    if (c < 0) container_error(src_, "empty input");
+    if (c < 0) container_error(src_, src_.offset() == 0 ? "the input is empty" : "the input holds only white space");
     if (c == '[') container_error(src_, "a GeoJSON text is an object (RFC 7946 section 2), found an array");
     if (c != '{') container_error(src_, "not JSON: expected \"{\", found " + describe_byte(c));
     src_.get();
@@ -603,7 +681,11 @@ class GeoJsonReader final : public FormatReader {
         return;
       }
       const auto at = src_.offset();
-      if (scan_value(src_, value) != Scan::complete)
+      const Scan scan = scan_value(src_, value);
+      if (scan == Scan::unmatched)
+        container_error(src_, "unmatched \"" + value.substr(value.size() - 1) + "\" at byte " +
+                                  std::to_string(src_.offset() - 1) + " in the value of \"" + key + "\"");
+      if (scan != Scan::complete)
         container_error(src_, "the input ends inside the value of \"" + key + "\" (truncated?)");
       if (key == "type") {
         try {
@@ -671,37 +753,128 @@ class GeoJsonReader final : public FormatReader {
         skip_space(src_);
         c = src_.peek();
       } else if (c != ']') {
-        if (c < 0) container_error(src_, "the input ends inside the \"features\" array (truncated?)");
-        container_error(src_, "expected \",\" or \"]\" between features, found " + describe_byte(c));
+        if (c < 0) return damaged_end("the input ends inside the \"features\" array after its last complete "
+                                      "feature (truncated file?)");
+        std::string consumed;
+        const std::string reason = "expected \",\" or \"]\" between features, found " + describe_byte(c);
+        return resynchronise(src_.offset(), src_.line(), consumed, reason, Scan::unmatched);
       }
     }
-    if (c == ']' ) {
+    if (c == ']') {
       src_.get();
-      state_ = State::members;
-      after_member();
-      if (state_ == State::members) read_members();
+      try {
+        state_ = State::members;
+        after_member();
+        if (state_ == State::members) read_members();
+      } catch (const Error& e) {  // the features are read: damage after them loses none
+        return damaged_end(std::string(e.what()) + ", after the \"features\" array");
+      }
       if (state_ == State::single) {  // cannot happen once streamed, but keep the state machine honest
         state_ = State::done;
         return single_;
       }
       return std::nullopt;
     }
-    if (c < 0) container_error(src_, "the input ends inside the \"features\" array (truncated?)");
+    if (c < 0) return damaged_end("the input ends inside the \"features\" array (truncated file?)");
     first_element_ = false;
     RawFeature f;
     f.line = src_.line();
     const auto at = src_.offset();
-    if (scan_value(src_, f.text) == Scan::end_of_input) {
-      InputFeature truncated;
-      truncated.line = f.line;
-      truncated.error = "the input ends inside this feature, which starts at byte " + std::to_string(at) +
-                        " (truncated file?)";
+    std::size_t depth = 0;
+    const Scan scan = scan_value(src_, f.text, &depth);
+    if (scan == Scan::end_of_input) {
+      return resynchronise(at, f.line, f.text,
+                           "the input ends inside this feature, which starts at byte " + std::to_string(at) +
+                               " (truncated file?)",
+                           scan);
+    }
+    if (scan == Scan::unmatched) {
+      const std::uint64_t bad = at + f.text.size() - 1;
+      return resynchronise(at, f.line, f.text,
+                           "unmatched \"" + f.text.substr(f.text.size() - 1) + "\" at byte " +
+                               std::to_string(bad) + " in the feature that starts at byte " + std::to_string(at),
+                           scan);
+    }
+    if (depth > max_json_depth) {
+      InputFeature deep;
+      deep.line = f.line;
+      deep.error = "the feature at byte " + std::to_string(at) + " nests arrays and objects " + std::to_string(depth) +
+                   " levels deep, more than the " + std::to_string(max_json_depth) + " this reader accepts";
       f.text.clear();
-      f.read = std::move(truncated);
-      state_ = State::done;
+      f.read = std::move(deep);
       return f;
     }
     f.byte = at;
+    return f;
+  }
+
+  /// The container ends badly after its last complete feature: recorded, no feature (none can be lost).
+  std::optional<RawFeature> damaged_end(std::string message) {
+    InputProblem p;
+    p.first_byte = p.end_byte = src_.offset();
+    p.line = src_.line();
+    p.message = std::move(message);
+    problems_.push_back(std::move(p));
+    state_ = State::done;
+    return std::nullopt;
+  }
+
+  /// The features array lost its way at byte `at` (line `line`); `consumed` holds the bytes cut from there on.
+  /// Finds the next plausible feature start (next_feature_start) in them or further on, puts the bytes from there
+  /// back into the source and returns one invalid feature standing for the span skipped. Without a later feature,
+  /// the span runs to a final "]}" that closes the array and the object, or else to the end of the input.
+  std::optional<RawFeature> resynchronise(std::uint64_t at, std::size_t line, std::string& consumed,
+                                          const std::string& reason, Scan scan) {
+    std::size_t found = next_feature_start(consumed, 1);
+    if (found == std::string::npos && scan != Scan::end_of_input) {
+      // Read on until a feature starts or the input ends (the search re-checks a short overlap each time).
+      for (;;) {
+        const std::string_view buf = src_.buffered();
+        if (buf.empty()) break;
+        const std::size_t from = consumed.size() > 16 ? consumed.size() - 16 : 1;
+        consumed.append(buf.data(), buf.size());
+        src_.consume(buf.size());
+        found = next_feature_start(consumed, std::max<std::size_t>(from, 1));
+        if (found != std::string::npos) break;
+      }
+    }
+    std::uint64_t end = at + consumed.size();
+    bool closes = false;
+    if (found != std::string::npos) {
+      src_.unread(std::string_view(consumed).substr(found));  // the feature reads as the next element
+      end = at + found;
+      first_element_ = true;
+    } else {
+      // A last "]" followed by "}" and nothing else closes the array and the object: the span ends before it.
+      std::size_t k = consumed.size();
+      while (k > 0 && is_json_space(static_cast<unsigned char>(consumed[k - 1]))) --k;
+      if (k > 0 && consumed[k - 1] == '}') {
+        --k;
+        while (k > 0 && is_json_space(static_cast<unsigned char>(consumed[k - 1]))) --k;
+        if (k > 0 && consumed[k - 1] == ']') {
+          closes = true;
+          end = at + (k - 1);
+        }
+      }
+      state_ = State::done;
+    }
+    InputProblem p;
+    p.first_byte = at;
+    p.end_byte = end;
+    p.line = line;
+    p.position = FormatReader::row_pending;
+    p.message = reason + "; bytes " + std::to_string(at) + " to " + std::to_string(end) + " (" +
+                std::to_string(end - at) + " bytes) were skipped";
+    if (found != std::string::npos) p.message += " and reading resumed at the feature at byte " + std::to_string(end);
+    else if (!closes) p.message += " up to the end of the input, where no later feature could be found";
+    p.message += "; features inside them may be lost";
+    InputFeature skipped;
+    skipped.line = line;
+    skipped.error = p.message;
+    problems_.push_back(std::move(p));
+    RawFeature f;
+    f.line = line;
+    f.read = std::move(skipped);
     return f;
   }
 
@@ -711,6 +884,7 @@ class GeoJsonReader final : public FormatReader {
   std::optional<std::string> type_;
   std::vector<std::pair<std::string, std::string>> members_;
   std::optional<RawFeature> single_;
+  std::vector<InputProblem>& problems_;
   bool streamed_ = false;
   bool first_element_ = true;
   bool expect_member_ = false;

@@ -43,6 +43,13 @@ const std::vector<ResultColumn>& result_columns(bool combined_factor) {
 
 namespace {
 
+/// csv_field(text) appended to `line`.
+void append_csv_field(std::string& line, std::string_view text) {
+  if (text.find_first_of(",\"\r\n") == std::string_view::npos && !detail::spreadsheet_formula_start(text))
+    line.append(text);
+  else line += csv_field(text);
+}
+
 /// Appends the 8 cells of a budget (empty when absent).
 void add_budget(ResultRow& row, const std::optional<Budget>& b) {
   const double values[8] = {b ? b->reference : NAN,  b ? b->grid : NAN,       b ? b->error : NAN,
@@ -126,8 +133,7 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
     const ResultCell& cell = row.cells[k];
     switch (columns[k].kind) {
       case ColumnKind::text:
-        if (cell.text.find_first_of(",\"\r\n") == std::string_view::npos) line.append(cell.text);
-        else line += csv_field(cell.text);
+        append_csv_field(line, cell.text);
         break;
       case ColumnKind::count:
         if (std::isfinite(cell.number)) {

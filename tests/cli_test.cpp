@@ -3,6 +3,7 @@
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <stdlib.h>
+#include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -208,10 +209,11 @@ TEST_F(CliTest, UnreadableInputExitsTwoAndWritesNothing) {
   expect_unusable(audit_text("empty.geojson", "", {"--crs", "EPSG:32615", "--format", "geojson"}), "empty");
   expect_unusable(audit_text("garbage.json", "this is not JSON", {"--crs", "EPSG:32615", "--format", "geojson"}),
                   "byte 0");
-  // Brackets that do not match: the container cannot be cut into features (the byte is named).
-  const std::string mismatch = R"({"type":"FeatureCollection","features":[{"a":[1,2}]})";
-  expect_unusable(audit_text("mismatch.geojson", mismatch, {"--crs", "EPSG:32615", "--out", out}),
-                  "byte " + std::to_string(mismatch.find("2}") + 1));  // 0-based offset of the stray "}"
+  // Brackets that do not match inside the "features" array no longer stop the run (issue 17 item 4): see
+  // DamagedInputKeepsGoingAndSaysWhatWasSkipped. Damage with not one feature in it still exits 2, writing nothing.
+  expect_unusable(audit_text("trailing.geojson", R"({"type":"FeatureCollection","features":[]} trailing)",
+                             {"--crs", "EPSG:32615", "--out", out}),
+                  "no feature could be read");
   EXPECT_FALSE(std::ifstream(out).good());
   // RFC 7946 section 3.3: a FeatureCollection has a "features" array.
   expect_unusable(audit_text("nofeatures.geojson", R"({"type":"FeatureCollection"})", {"--crs", "EPSG:32615"}),
@@ -837,4 +839,193 @@ TEST_F(CliTest, HeightFieldGivesEachFeatureItsOwnHeightAndTheCombinedFactor) {
   expect_unusable(audit_text("p.geojson", collection({feature("x", line)}),
                              {"--crs", "EPSG:32615", "--height", "5", "--height-field", "h"}),
                   "excludes");
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Issue 17: damaged inputs, outputs that would destroy inputs, write faults, hostile CRS strings and cells
+
+TEST_F(CliTest, DamagedInputKeepsGoingAndSaysWhatWasSkipped) {
+  // Regression (issue 17 item 4): a missing quote in feature 2 of 4 dropped features 2-4 ("truncated file?"), and a
+  // missing bracket in feature 1 aborted with no row. Now the span is one invalid row naming its bytes, the later
+  // features are audited, the summary lists the span, and the exit status is 1 (a partial run), not 2.
+  const std::vector<std::string> four = {feature("a", small_square), feature("b", small_square),
+                                         feature("c", small_square), feature("d", small_square)};
+  std::string text = collection(four);
+  const std::size_t b_at = text.find(R"({"type":"Feature","id":"b")");
+  const std::size_t c_at = text.find(R"({"type":"Feature","id":"c")");
+  text.erase(text.find(R"("b")") + 2, 1);  // "b" loses its closing quote (RFC 8259 section 7: strings are quoted)
+  const std::string summary = path("summary.json");
+  CliRun r = audit_text("quote.geojson", text, {"--crs", "EPSG:32615", "--summary", summary});
+  EXPECT_EQ(r.status, 1) << r.err;
+  ASSERT_EQ(r.data_rows(), 4u) << r.out << r.err;
+  EXPECT_EQ(r.cell(0, "id"), "a");
+  EXPECT_EQ(r.cell(1, "status"), "invalid");
+  EXPECT_THAT(r.cell(1, "message"), HasSubstr("bytes " + std::to_string(b_at) + " to " + std::to_string(c_at - 1)));
+  EXPECT_THAT(r.cell(1, "message"), HasSubstr("may be lost"));
+  EXPECT_EQ(r.cell(2, "id"), "c");
+  EXPECT_EQ(r.cell(2, "status"), "ok");
+  EXPECT_EQ(r.cell(3, "id"), "d");
+  EXPECT_EQ(r.cell(3, "status"), "ok");
+  EXPECT_THAT(r.err, HasSubstr("bytes skipped"));
+  const auto j = nlohmann::json::parse(slurp(summary));
+  ASSERT_EQ(j["input_problems"]["spans"].size(), 1u);
+  EXPECT_EQ(j["input_problems"]["spans"][0]["first_byte"], b_at);
+  EXPECT_EQ(j["input_problems"]["spans"][0]["feature_position"], 2);
+  EXPECT_EQ(j["exit_status"], 1);
+
+  // A missing closing bracket in feature 1 (and a stray "{" in another file): feature 2 is still audited.
+  for (const std::string& damage : {std::string("missing"), std::string("stray")}) {
+    std::string t = collection({feature("a", small_square), feature("b", small_square)});
+    if (damage == "missing") t.erase(t.find(",\n" + feature("b", small_square)) - 1, 1);
+    else t.insert(t.find(R"("properties")"), "{");
+    r = audit_text(damage + ".geojson", t, {"--crs", "EPSG:32615"});
+    EXPECT_EQ(r.status, 1) << damage << r.err;
+    // The stray "{" opens an object of its own that the resynchronisation finds ({"properties":...,"geometry":...}
+    // after a ","): it is one more invalid row (no "type"), so nothing of feature a goes unmentioned.
+    const std::size_t rows = damage == "stray" ? 3 : 2;
+    ASSERT_EQ(r.data_rows(), rows) << damage << r.out << r.err;
+    for (std::size_t k = 0; k + 1 < rows; ++k) EXPECT_EQ(r.cell(k, "status"), "invalid") << damage;
+    EXPECT_EQ(r.cell(rows - 1, "id"), "b") << damage;
+    EXPECT_EQ(r.cell(rows - 1, "status"), "ok") << damage;
+  }
+
+  // The unmatched bracket of the old container test: named by its 0-based byte, one invalid row, exit 1.
+  const std::string mismatch = R"({"type":"FeatureCollection","features":[{"a":[1,2}]})";
+  r = audit_text("mismatch.geojson", mismatch, {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1) << r.err;
+  ASSERT_EQ(r.data_rows(), 1u);
+  EXPECT_THAT(r.cell(0, "message"), HasSubstr("byte " + std::to_string(mismatch.find("2}") + 1)));
+
+  // Properties nested 75 000 deep crashed the JSON writer: now one invalid row naming the nesting.
+  const std::string deep = R"({"type":"Feature","properties":{"p":)" + std::string(75000, '[') +
+                           std::string(75000, ']') + R"(},"geometry":)" + small_square + "}\n";
+  r = audit_text("deep.ndjson", deep + feature("after", small_square) + "\n",
+                 {"--crs", "EPSG:32615", "--format", "ndjson", "--geojson", path("deep_out.geojson")});
+  EXPECT_EQ(r.status, 1) << r.err;
+  ASSERT_EQ(r.data_rows(), 2u) << r.err;
+  EXPECT_THAT(r.cell(0, "message"), HasSubstr("nested more than 256 levels"));
+  EXPECT_EQ(r.cell(1, "status"), "ok");
+}
+
+TEST_F(CliTest, UnreadableInputsAreNamed) {
+  // Regression (issue 17 item 4): a directory and a closed standard input said "empty input at byte 0".
+  CliRun r = audit({dir_, "--crs", "EPSG:32615"});
+  expect_unusable(r, "is a directory");
+  const std::string cmd = shell_quote(cli) + " audit - --crs EPSG:32615 <&- 2>" + shell_quote(path("err"));
+  const int raw = std::system(cmd.c_str());
+  EXPECT_EQ(WIFEXITED(raw) ? WEXITSTATUS(raw) : -1, 2);
+  EXPECT_THAT(slurp(path("err")), HasSubstr("standard input: it is closed"));
+  // Invalid UTF-8 from the input is never copied into a message (RFC 3629 section 3): written as \xNN.
+  r = audit_text("utf8.geojson",
+                 collection({R"({"type":"Feature","id":"u","properties":{},"geometry":{"type":"Po)"
+                             "\xFF\xFE"
+                             R"(int","coordinates":[1,2]}})"}),
+                 {"--crs", "EPSG:32615"});
+  EXPECT_EQ(r.status, 1);
+  EXPECT_THAT(r.cell(0, "message"), HasSubstr("Po\\xFF"));
+  EXPECT_EQ(r.out.find('\xFF'), std::string::npos);
+  // No raw library prefix in any message.
+  EXPECT_EQ(r.out.find("[json.exception"), std::string::npos);
+}
+
+TEST_F(CliTest, OutputNamingAnInputIsRefused) {
+  // Regression (issue 17 item 1): `--out` naming the input destroyed it. Same file id (st_dev, st_ino): the path
+  // itself, a hard link and a spelling through "." all count; the input is left as it was, exit 2.
+  const std::string input = path("in.geojson");
+  const std::string text = collection({feature("a", small_square)});
+  spit(input, text);
+  ASSERT_EQ(link(input.c_str(), path("link.geojson").c_str()), 0);
+  for (const std::string& out : {input, path("link.geojson"), dir_ + "/./in.geojson"}) {
+    for (const char* option : {"--out", "--summary", "--geojson"}) {
+      expect_unusable(audit({input, "--crs", "EPSG:32615", option, out}), "destroy the input");
+      EXPECT_EQ(slurp(input), text) << option << " " << out;
+    }
+  }
+  CliRun other = run({"rank", input, "--out", input});
+  EXPECT_EQ(other.status, 2);
+  EXPECT_THAT(other.err, HasSubstr("destroy the input"));
+  EXPECT_EQ(slurp(input), text);
+  other = run({"cells", "--grid-crs", "EPSG:4326", "--origin", "0,1", "--pixel", "1,-1", "--size", "1,1",
+               "--classes", input, "--classes-format", "raw", "--out", input});
+  EXPECT_EQ(other.status, 2);
+  EXPECT_THAT(other.err, HasSubstr("destroy the input"));
+  EXPECT_EQ(slurp(input), text);
+  // Standard output redirected onto the input file (tailor writes only there).
+  const std::string cmd = shell_quote(cli) + " tailor " + shell_quote(input) +
+                          " --family albers 1<>" + shell_quote(input) + " 2>" + shell_quote(path("err"));
+  const int raw = std::system(cmd.c_str());
+  EXPECT_EQ(WIFEXITED(raw) ? WEXITSTATUS(raw) : -1, 2);
+  EXPECT_THAT(slurp(path("err")), HasSubstr("destroy the input"));
+  EXPECT_EQ(slurp(input), text);
+}
+
+TEST_F(CliTest, WriteFaultsNameTheCauseAndLeaveNoFile) {
+  // Regression (issue 17 item 5): /dev/full (Linux: every write fails with ENOSPC) gave no cause; a fault or a
+  // signal left a file that looked complete.
+  const std::string input = path("in.geojson");
+  spit(input, collection({feature("a", small_square)}));
+  expect_unusable(audit({input, "--crs", "EPSG:32615", "--out", "/dev/full"}), "no space left on device");
+  expect_unusable(audit({input, "--crs", "EPSG:32615", "--summary", "/dev/full", "--out", path("rows.csv")}),
+                  "no space left on device");
+  EXPECT_FALSE(std::ifstream(path("rows.csv")).good());  // nothing renamed into place when one output fails
+  const std::string cmd = shell_quote(cli) + " audit " + shell_quote(input) + " --crs EPSG:32615 >/dev/full 2>" +
+                          shell_quote(path("err"));
+  const int raw = std::system(cmd.c_str());
+  EXPECT_EQ(WIFEXITED(raw) ? WEXITSTATUS(raw) : -1, 2);
+  EXPECT_THAT(slurp(path("err")), HasSubstr("no space left on device"));
+  // No temporary file is left behind in the output's directory.
+  const std::string listing = path("listing");
+  std::system(("ls -A " + shell_quote(dir_) + " > " + shell_quote(listing)).c_str());
+  EXPECT_EQ(slurp(listing).find(".gridtruth-"), std::string::npos) << slurp(listing);
+
+  // SIGTERM during a run: the old file stays as it was and no temporary file is left (the signal is re-raised).
+  const std::string big = path("big.ndjson");
+  {
+    std::ofstream o(big, std::ios::binary);
+    for (int k = 0; k < 200000; ++k) o << feature("f" + std::to_string(k), small_square) << "\n";
+  }
+  const std::string out = path("old.csv");
+  spit(out, "old content\n");
+  const std::string run_cmd = shell_quote(cli) + " audit " + shell_quote(big) + " --crs EPSG:32615 --threads 1 --out " +
+                              shell_quote(out) + " 2>/dev/null & pid=$!; sleep 1; kill -TERM $pid; wait $pid; echo $? > " +
+                              shell_quote(path("status"));
+  std::system(run_cmd.c_str());
+  EXPECT_EQ(slurp(path("status")), "143\n");  // 128 + SIGTERM (15): killed by the signal, as POSIX shells report
+  EXPECT_EQ(slurp(out), "old content\n");
+  std::system(("ls -A " + shell_quote(dir_) + " > " + shell_quote(listing)).c_str());
+  EXPECT_EQ(slurp(listing).find(".gridtruth-"), std::string::npos) << slurp(listing);
+}
+
+TEST_F(CliTest, UntrustedCrsStringsOpenOnlyProjDataFiles) {
+  // Regression (issue 17 item 6): +nadgrids= or +init= naming a FIFO hung for ever. Without --trusted-crs PROJ
+  // opens no file outside its data directories; `timeout` turns a hang into a failure of this test.
+  const std::string fifo = path("fifo");
+  ASSERT_EQ(mkfifo(fifo.c_str(), 0600), 0);
+  const std::string input = path("in.geojson");
+  spit(input, collection({feature("a", small_square)}));
+  for (const std::string& crs : {"+proj=tmerc +lon_0=-95 +init=" + fifo + ":x",
+                                 "+proj=longlat +ellps=clrk66 +nadgrids=" + fifo}) {
+    const bool source = crs.find("longlat") != std::string::npos;
+    const std::string cmd = "timeout 30 " + shell_quote(cli) + " audit " + shell_quote(input) +
+                            (source ? " --crs EPSG:32615 --source-crs " : " --crs ") + shell_quote(crs) +
+                            " >/dev/null 2>" + shell_quote(path("err"));
+    const int raw = std::system(cmd.c_str());
+    EXPECT_EQ(WIFEXITED(raw) ? WEXITSTATUS(raw) : -1, 2) << crs << slurp(path("err"));
+  }
+}
+
+TEST_F(CliTest, CellsThatLookLikeFormulasAreNeutralised) {
+  // OWASP "CSV Injection": a text cell starting with = + - @ (or a tab or CR) gets a leading single quote; whole
+  // numbers such as a negative id stay numbers.
+  const std::string csv = "id,name,wkt\n"
+                          "=HYPERLINK(\"x\"),a,\"POINT (-93.5 44)\"\n"
+                          "-12.5,b,\"POINT (-93.5 44)\"\n"
+                          "@SUM(A1),c,\"POINT (-93.5 44)\"\n"
+                          "+1+1,d,\"POINT (-93.5 44)\"\n";
+  const CliRun r = audit_text("formula.csv", csv, {"--crs", "EPSG:32615", "--id-field", "id"});
+  ASSERT_EQ(r.data_rows(), 4u) << r.err;
+  EXPECT_EQ(r.cell(0, "id"), "'=HYPERLINK(\"x\")");
+  EXPECT_EQ(r.cell(1, "id"), "-12.5");
+  EXPECT_EQ(r.cell(2, "id"), "'@SUM(A1)");
+  EXPECT_EQ(r.cell(3, "id"), "'+1+1");
 }

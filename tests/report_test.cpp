@@ -549,17 +549,19 @@ TEST_F(ReportCliTest, ReportWritesSvgOrHtmlAndRejectsOtherNames) {
   EXPECT_THAT(html, HasSubstr("area (ha)"));
   EXPECT_EQ(html.find("<script"), std::string::npos);
 
-  // A container that breaks after its first feature: the GeoJSON keeps that feature, no picture is left.
+  // A container that breaks after its first feature (issue 17 item 4: the run keeps going): the skipped bytes are
+  // one invalid feature after "a" in every output, the picture is drawn, and the partial run exits 1.
   spit(path("broken.geojson"),
        std::string(R"({"type":"FeatureCollection","features":[{"type":"Feature","id":"a","properties":{},)") +
            R"("geometry":{"type":"Point","coordinates":[-93,44]}},{"type":"Feature",)" + "\n]]]");
   EXPECT_EQ(audit({path("broken.geojson"), "--crs", "EPSG:32615", "--report", path("broken.svg"), "--geojson",
                    path("broken.out.geojson"), "--out", path("broken.csv")}),
-            2);
-  EXPECT_FALSE(std::ifstream(path("broken.svg")).good());
+            1);
+  EXPECT_TRUE(std::ifstream(path("broken.svg")).good());
   const auto partial = nlohmann::json::parse(slurp(path("broken.out.geojson")));
-  ASSERT_EQ(partial.at("features").size(), 1u);
+  ASSERT_EQ(partial.at("features").size(), 2u);
   EXPECT_EQ(partial.at("features")[0].at("id"), "a");
+  EXPECT_THAT(partial.at("features")[1].dump(), HasSubstr("skipped"));
 
   EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.png")}), 2);
   EXPECT_THAT(slurp(path("stderr")), HasSubstr("--report must name a .svg or .html file"));

@@ -39,6 +39,24 @@ struct CrsInfo {
   std::optional<AreaOfUse> area_of_use;  ///< absent when the database knows none
 };
 
+/// Which files PROJ may open while it resolves CRS definitions and builds operations: init files (+init=), grids
+/// (+nadgrids=, +grids=, +geoidgrids=, grid files named in WKT or PROJJSON, grids the database picks).
+enum class CrsFileAccess {
+  any,               ///< whatever a definition names (PROJ's own behaviour): for definitions you trust
+  data_directories,  ///< only regular files inside PROJ's data directories (its search path: PROJ_DATA, the
+                     ///< install's share/proj, the user's writable PROJ directory), read only; never a FIFO, a
+                     ///< device or a path outside them, whatever the definition spells (absolute, "..", links)
+};
+
+/// Sets the file access of the PROJ contexts gridtruth creates from now on (describe_crs, Auditor, rank_crs,
+/// tailor_crs, CellGrid): process-wide, thread-safe; objects already built keep theirs. The library's default is
+/// CrsFileAccess::any (definitions are the caller's own); the `gridtruth` command uses data_directories unless
+/// given --trusted-crs. A definition that needs a refused file fails as an unknown CRS (Error(unknown_crs)), or,
+/// for a grid only an operation needs, the operation is not available.
+void set_crs_file_access(CrsFileAccess access) noexcept;
+/// The current setting of set_crs_file_access().
+CrsFileAccess crs_file_access() noexcept;
+
 /// Resolves any CRS definition PROJ accepts: "EPSG:32632", WKT1, WKT2, PROJJSON, or a PROJ string
 /// ("+proj=utm +zone=32 +datum=WGS84"; "+type=crs" is added when missing).
 /// Throws Error(ErrorCode::unknown_crs) naming the definition when PROJ cannot make a CRS of it.

@@ -4,8 +4,17 @@
 // on any thread, reads it), so inputs of any size stream through in constant memory (except a GeoJSON document
 // that is a single Feature or bare geometry, which is read whole). Every feature found in the input yields exactly
 // one InputFeature: a feature that cannot be understood comes back with `error` set and no geometry, never dropped.
-// Only an input that is unreadable as a whole (not JSON at all, a CSV without its geometry column, brackets that do
-// not match) makes next() throw Error(ErrorCode::parse), naming the byte offset or line.
+// Readers keep going past damage: where a GeoJSON FeatureCollection's brackets or quotes stop matching (a missing
+// quote or bracket, a stray "{"), the reader resynchronises at the next plausible feature object (a "{" after a ","
+// whose first member is "type", "geometry", "properties", "id" or "bbox" and whose brackets close), and the bytes
+// skipped come back as one InputFeature with `error` set, which names the byte range and says that features inside
+// it may be lost; a CSV quote left open runs to the end of its line only, and reading goes on with the next record;
+// newline-delimited GeoJSON is read line by line anyway. Each such span, and a damaged end of the container
+// (truncation after the last complete feature), is listed by FeatureReader::problems().
+// Only an input that is unreadable as a whole (empty, not JSON at all, a CSV without its geometry column, a
+// directory, a closed standard input) makes next() throw Error(ErrorCode::parse or io), naming the problem.
+// JSON nested deeper than max_json_depth levels gives the feature an error instead of being parsed.
+// Messages never copy invalid UTF-8 or control characters from the input: such bytes are written as \xNN.
 // Byte numbers in messages are 0-based offsets into the input; line numbers are 1-based.
 #pragma once
 
@@ -76,6 +85,21 @@ struct RawFeature {
   std::optional<InputFeature> read;   ///< the feature, already read (CSV records, a truncated last feature)
 };
 
+/// Arrays and objects nested deeper than this in a JSON feature make it invalid (properties included), so that no
+/// input can exhaust the stack of a recursive JSON writer.
+inline constexpr std::size_t max_json_depth = 256;
+
+/// A stretch of the input a reader skipped to keep going, or a damaged end of the input.
+struct InputProblem {
+  std::uint64_t first_byte = 0;  ///< 0-based offset of the first byte skipped
+  std::uint64_t end_byte = 0;    ///< one past the last byte skipped; equal to first_byte when nothing was skipped
+  std::size_t line = 0;          ///< 1-based line of first_byte
+  /// Position of the invalid feature that stands for the span (InputFeature::position); 0 when there is none
+  /// (a damaged end after the last complete feature, where no feature can have been lost).
+  std::size_t position = 0;
+  std::string message;           ///< what was wrong, the same text as the feature's error when there is one
+};
+
 /// Pulls features one at a time from a stream or a file.
 ///
 /// Thread-safety: next(), next_raw(), format() and bytes_read() are for one thread at a time. parse() is const and
@@ -110,6 +134,10 @@ class FeatureReader {
   /// GeoJSON; features with Unicode escapes, signed zeros or malformed JSON take a slower exact path.
   InputFeature parse(RawFeature raw) const;
 
+  /// Every span skipped and every damaged end met so far, in input order (for summaries; see the file comment).
+  /// Same thread rule as next().
+  const std::vector<InputProblem>& problems() const noexcept;
+
   /// The format in use (sniffed on the first call to next() when `automatic`; `automatic` until then).
   InputFormat format() const noexcept;
   /// Bytes consumed so far (for progress reports).
@@ -131,8 +159,11 @@ Geometry parse_wkt(std::string_view text);
 /// to 1e15, exponent notation outside); empty for NaN and infinities.
 std::string format_number(double value);
 
-/// Quotes one CSV field as RFC 4180 section 2 says: fields holding a comma, a double quote, CR or LF are enclosed
-/// in double quotes and inner quotes doubled; any other field is written as is.
+/// Quotes one CSV text field as RFC 4180 section 2 says: fields holding a comma, a double quote, CR or LF are
+/// enclosed in double quotes and inner quotes doubled. A text that a spreadsheet would take for a formula (its first
+/// character is =, +, -, @, a tab or a CR; OWASP "CSV Injection") is first given a leading single quote, unless the
+/// whole text is a decimal number such as "-12.5" or "+3e2" (a number cell cannot be a formula and stays a number).
+/// Any other field is written as is.
 std::string csv_field(std::string_view text);
 
 /// What a result column holds: text (id, names, message), a count (vertices) or a number (m, m², ppm, scales,
