@@ -9,6 +9,7 @@ packages=(
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen
   librsvg2-bin libxml2-utils zlib1g-dev
+  chromium                 # tests: ReportCliTest.HtmlRendersInHeadlessChromium renders the HTML report
   clang libclang-rt-14-dev
 )
 missing=()
