@@ -20,8 +20,8 @@ export UBSAN_OPTIONS=${UBSAN_OPTIONS:-print_stacktrace=1}
 for t in "${targets[@]}"; do
   mkdir -p "build/fuzz/corpus/$t"
   echo "== $t: ${seconds} s"
-  # -timeout: an input taking longer than 10 s is a finding (a hang); -max_len keeps each input a few kB.
-  "build/fuzz/$t" -max_total_time="$seconds" -timeout=10 -max_len=4096 -rss_limit_mb=2048 -print_final_stats=1 \
+  # -timeout: an input taking longer than 20 s is a finding (a hang); -max_len keeps each input a few kB.
+  "build/fuzz/$t" -max_total_time="$seconds" -timeout=20 -max_len=4096 -rss_limit_mb=2048 -print_final_stats=1 \
       -artifact_prefix="build/fuzz/artifacts/$t-" "build/fuzz/corpus/$t" "fuzz/corpus/$t" fuzz/regressions \
       2> "build/fuzz/$t.log" || { tail -n 60 "build/fuzz/$t.log"; echo "fuzz: $t found a problem (above)"; exit 1; }
   grep -E '^stat::(number_of_executed_units|peak_rss_mb)|^#[0-9]+ *DONE' "build/fuzz/$t.log" || true
