@@ -9,6 +9,7 @@ packages=(
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen
   librsvg2-bin libxml2-utils zlib1g-dev
+  chromium                 # tests: ReportCliTest.HtmlRendersInHeadlessChromium renders the HTML report
   clang libclang-rt-14-dev
   python3-dev pybind11-dev python3-pybind11 python3-pytest python3-numpy python3-pandas python3-shapely
   python3-geopandas python3-pyproj python3-geographiclib python3-dask python3-distributed

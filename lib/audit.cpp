@@ -87,8 +87,8 @@ struct WorkPath {
   std::vector<Coord> xy;        // target CRS plane, its linear unit
   std::vector<Coord> c_xy;      // straight edges: the plane of the edge CRS
   bool closed() const noexcept { return role != Role::line; }
-  std::size_t edge_count() const noexcept {
-    return lonlat_s.size() < 2 ? 0 : (closed() ? lonlat_s.size() : lonlat_s.size() - 1);
+  std::size_t edge_count() const noexcept {  // from xy, which every stage after the projection keeps
+    return xy.size() < 2 ? 0 : (closed() ? xy.size() : xy.size() - 1);
   }
 };
 
@@ -121,20 +121,36 @@ int prime_meridian_crossing(double lon1_deg, double lon2_deg) noexcept {
 /// azimuth and length for densification and bearings. `Geod` is GeographicLib::Geodesic (geodesic edges) or
 /// GeographicLib::Rhumb (rhumb edges): both give the area S12 between the edge and the equator (Karney 2013;
 /// Karney, "The area of rhumb polygons", 2024).
+/// Per edge it keeps only what the later stages read, once: 16 bytes (azimuth, parameter), or the closed-form
+/// method's own records (short_geodesics.hpp, which carry the midpoint) — a 10⁶-vertex ring is held once, not
+/// once per derived quantity.
 struct EllipsoidWalk {
   double length_m = 0;
   double signed_area_m2 = 0;
-  std::vector<double> azimuth_deg;  // of the true edge at its start
-  std::vector<double> sin_azimuth, cos_azimuth;
+  std::vector<double> azimuth_deg;  // of the true edge at its start (empty when `short_edges` holds the edges)
   std::vector<double> edge_param;  // the edge's curve parameter range: metres along it (geodesic, rhumb) or the
                                    // chord length in the edge CRS's unit (straight edges)
-  std::vector<Coord> midpoint;     // each edge's midpoint (longitude, latitude) when the walk gives it; else empty
+  std::vector<detail::ShortGeodesics::Edge> short_edges;  // the closed-form walk's edges, midpoints included
 
   void resize(std::size_t edges) {
     azimuth_deg.resize(edges);
-    sin_azimuth.resize(edges);
-    cos_azimuth.resize(edges);
     edge_param.resize(edges);
+  }
+  bool has_midpoints() const noexcept { return !short_edges.empty(); }
+  Coord midpoint(std::size_t e) const noexcept { return short_edges[e].midpoint; }
+  double param(std::size_t e) const noexcept { return short_edges.empty() ? edge_param[e] : short_edges[e].s12; }
+  double azimuth(std::size_t e) const noexcept {
+    if (short_edges.empty()) return azimuth_deg[e];
+    return std::atan2(short_edges[e].sin_azi, short_edges[e].cos_azi) / kDegToRad;
+  }
+  /// Sine and cosine of azimuth(e): the closed-form method's own, else sincosd of the stored azimuth.
+  void sincos(std::size_t e, double& sin_azimuth, double& cos_azimuth) const noexcept {
+    if (short_edges.empty()) {
+      GeographicLib::Math::sincosd(azimuth_deg[e], sin_azimuth, cos_azimuth);
+      return;
+    }
+    sin_azimuth = short_edges[e].sin_azi;
+    cos_azimuth = short_edges[e].cos_azi;
   }
 };
 
@@ -201,7 +217,6 @@ EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonl
     const EdgeInverse edge = inverse(geod, a, b, closed);
     sum.add(edge.s12, closed ? edge.area12 : 0.0, a.x, b.x);
     w.azimuth_deg[e] = edge.azi1;
-    GeographicLib::Math::sincosd(edge.azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
     w.edge_param[e] = edge.s12;
   }
   w.length_m = sum.length();
@@ -212,25 +227,16 @@ EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonl
 /// The same walk for geodesic edges by the closed-form short-edge method (short_geodesics.hpp), which also gives
 /// each edge's midpoint; nothing when the method does not apply to this path.
 std::optional<EllipsoidWalk> walk_short_edges(const detail::ShortGeodesics& method, const GeographicLib::Geodesic& geod,
-                                              const std::vector<Coord>& lonlat, bool closed,
-                                              std::vector<detail::ShortGeodesics::Edge>& scratch) {
-  if (!method.walk(lonlat, closed, scratch)) return std::nullopt;
+                                              const std::vector<Coord>& lonlat, bool closed) {
   EllipsoidWalk w;
-  const std::size_t edges = scratch.size();
-  w.resize(edges);
-  w.midpoint.resize(edges);
+  if (!method.walk(lonlat, closed, w.short_edges)) return std::nullopt;
   RingSum sum;
-  for (std::size_t e = 0; e < edges; ++e) {
-    const detail::ShortGeodesics::Edge& edge = scratch[e];
+  for (std::size_t e = 0; e < w.short_edges.size(); ++e) {
+    const detail::ShortGeodesics::Edge& edge = w.short_edges[e];
     sum.add(edge.s12, closed ? edge.area12 : 0.0, lonlat[e].x, lonlat[(e + 1) % lonlat.size()].x);
-    w.sin_azimuth[e] = edge.sin_azi;
-    w.cos_azimuth[e] = edge.cos_azi;
-    w.azimuth_deg[e] = std::atan2(edge.sin_azi, edge.cos_azi) / kDegToRad;
-    w.edge_param[e] = edge.s12;
-    w.midpoint[e] = edge.midpoint;
   }
   w.length_m = sum.length();
-  if (closed && edges > 0) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
+  if (closed && !w.short_edges.empty()) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
   return w;
 }
 
@@ -422,7 +428,6 @@ class StraightWalker {
     double s12 = 0, azi1 = 0, azi2 = 0;
     side.geod->Inverse(a.y, a.x, toward.y, toward.x, s12, azi1, azi2);
     w.azimuth_deg[e] = azi1;
-    GeographicLib::Math::sincosd(azi1, w.sin_azimuth[e], w.cos_azimuth[e]);
   }
   static std::string failure(std::size_t e, std::size_t path_index, const std::string& what) {
     return "edge " + std::to_string(e + 1) + " of part " + std::to_string(path_index + 1) + " " + what;
@@ -645,7 +650,6 @@ struct Auditor::Impl {
   GeographicLib::Geodesic geod_p{GeographicLib::Constants::WGS84_a(), GeographicLib::Constants::WGS84_f()};
   std::optional<GeographicLib::Rhumb> rhumb_s, rhumb_p;
   std::optional<detail::ShortGeodesics> short_s, short_p;  // the closed-form short-edge method, when enabled
-  mutable std::vector<detail::ShortGeodesics::Edge> short_scratch;
   double unit_m = 1;
   double tolerance_units = 0;  // densify tolerance in the target's linear unit
 
@@ -1204,7 +1208,9 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   r.vertices = input.vertex_count();
   r.height_m = height_m;
   std::vector<Problem> problems;
-  const Geometry g = op_source ? source_to_lonlat(input, problems) : input;
+  std::optional<Geometry> converted;  // a projected source's geometry in longitude, latitude; else `input` itself
+  if (op_source) converted = source_to_lonlat(input, problems);
+  const Geometry& g = converted ? *converted : input;
   for (Problem& p : validate(g)) problems.push_back(std::move(p));
   if (!std::isfinite(height_m) || height_m < -10000 || height_m > 100000) {
     problems.push_back({Problem::Code::non_finite, "height " + std::to_string(height_m) +
@@ -1282,7 +1288,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     const WorkPath& path = paths[i];
     if (edges.model == EdgeModel::geodesic) {
       std::optional<EllipsoidWalk> quick =
-          short_s ? walk_short_edges(*short_s, geod_s, path.lonlat_s, path.closed(), short_scratch) : std::nullopt;
+          short_s ? walk_short_edges(*short_s, geod_s, path.lonlat_s, path.closed()) : std::nullopt;
       walk_s[i] = quick ? std::move(*quick) : walk_on_ellipsoid(geod_s, path.lonlat_s, path.closed());
     } else if (edges.model == EdgeModel::rhumb) {
       walk_s[i] = walk_on_ellipsoid(*rhumb_s, path.lonlat_s, path.closed());
@@ -1342,6 +1348,10 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     return separate_target ? fail(area_of_use_message, kNaN, kNaN)
                            : fail(area_of_use_message, e_s_length, e_s_area);
   }
+  // Not read again: the source coordinates and, with a datum change, the walk on the source ellipsoid (so that a
+  // long path is not held once more than the later stages need).
+  for (WorkPath& path : paths) std::vector<Coord>().swap(path.lonlat_s);
+  if (separate_target) std::vector<EllipsoidWalk>().swap(walk_s);
 
   // 4. E_P: the same measures on the target's ellipsoid after the datum transformation.
   const std::vector<EllipsoidWalk>* walk_p = &walk_s;
@@ -1352,8 +1362,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
         continue;
       }
       std::optional<EllipsoidWalk> quick =
-          short_p ? walk_short_edges(*short_p, geod_p, paths[i].lonlat_p, paths[i].closed(), short_scratch)
-                  : std::nullopt;
+          short_p ? walk_short_edges(*short_p, geod_p, paths[i].lonlat_p, paths[i].closed()) : std::nullopt;
       walk_p_own[i] = quick ? std::move(*quick) : walk_on_ellipsoid(geod_p, paths[i].lonlat_p, paths[i].closed());
     }
     walk_p = &walk_p_own;
@@ -1381,14 +1390,18 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     // The true edge e as a curve over [0, edge_param[e]]; a geodesic line is only set up when it is followed.
     std::optional<GeographicLib::GeodesicLine> geodesic;
     std::optional<GeographicLib::RhumbLine> rhumb_line;
+    // Edges are taken in blocks of kEdgeBlock, so that what is kept per edge while densifying (midpoints, lines)
+    // does not grow with the path: a 10⁶-vertex ring would otherwise hold 0.5 kB per edge in lines alone.
+    constexpr std::size_t kEdgeBlock = 4096;
+    std::size_t block_start = 0;
     // Geodesic edges solved by GeographicLib: their lines, set up once for the midpoint and kept for refining.
     std::vector<GeographicLib::GeodesicLine> lines;
-    if (edges.model == EdgeModel::geodesic && walk.midpoint.empty()) lines.resize(edge_count);
+    const bool keep_lines = edges.model == EdgeModel::geodesic && !walk.has_midpoints();
     auto curve_of = [&](std::size_t e) -> PathDensifier::Curve {
       const Coord a = path.lonlat_p[e];
-      const double azimuth = walk.azimuth_deg[e];
-      if (!lines.empty()) {
-        GeographicLib::GeodesicLine* line = &lines[e];
+      const double azimuth = walk.azimuth(e);
+      if (keep_lines) {
+        GeographicLib::GeodesicLine* line = &lines[e - block_start];
         if (!line->Init()) {
           *line = geod_p.Line(a.y, a.x, azimuth,
                               GeographicLib::Geodesic::LATITUDE | GeographicLib::Geodesic::LONGITUDE |
@@ -1424,7 +1437,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
       }
       const std::size_t j = (e + 1) % path.lonlat_p.size();
       const Coord c0 = path.c_xy[e], c1 = path.c_xy[j];
-      const double length = walk.edge_param[e];
+      const double length = walk.param(e);
       return [c0, c1, length, c_to_p](double s) {
         const double t = length > 0 ? s / length : 0;
         const PJ_COORD out = proj_trans(c_to_p, PJ_FWD, proj_coord(c0.x + t * (c1.x - c0.x),
@@ -1433,29 +1446,36 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
       };
     };
     const bool densify = !(straight && edge_crs_is_target);  // else the true edges are the chords: D = G
-    // Every edge's midpoint (from the walk when it gives them), projected in one call.
     std::vector<Coord> mid_lonlat, mid_xy;
-    if (densify) {
-      mid_lonlat.resize(edge_count, Coord{kNaN, kNaN});
-      for (std::size_t e = 0; e < edge_count; ++e) {
-        if (!walk.midpoint.empty()) {
-          mid_lonlat[e] = walk.midpoint[e];
-        } else if (walk.edge_param[e] > 1e-9) {
-          mid_lonlat[e] = curve_of(e)(0.5 * walk.edge_param[e]);
+    for (; block_start < edge_count; block_start += kEdgeBlock) {
+      const std::size_t block_end = std::min(edge_count, block_start + kEdgeBlock);
+      // Every edge's midpoint (from the walk when it gives them), projected in one call per block.
+      if (densify) {
+        lines.assign(keep_lines ? block_end - block_start : 0, GeographicLib::GeodesicLine());
+        mid_lonlat.assign(block_end - block_start, Coord{kNaN, kNaN});
+        for (std::size_t e = block_start; e < block_end; ++e) {
+          if (walk.has_midpoints()) {
+            mid_lonlat[e - block_start] = walk.midpoint(e);
+          } else if (walk.param(e) > 1e-9) {
+            mid_lonlat[e - block_start] = curve_of(e)(0.5 * walk.param(e));
+          }
         }
+        mid_xy = mid_lonlat;
+        transform_array(op_fast.get(), PJ_FWD, mid_xy);
       }
-      mid_xy = mid_lonlat;
-      transform_array(op_fast.get(), PJ_FWD, mid_xy);
-    }
-    for (std::size_t e = 0; e < edge_count; ++e) {
-      const std::size_t j = (e + 1) % path.lonlat_p.size();
-      // Bearing: grid bearing of the chord minus the true edge's azimuth at the start vertex.
-      bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, walk.sin_azimuth[e],
-                  walk.cos_azimuth[e]);
-      if (!densify) continue;
-      const PathDensifier::Curve curve = curve_of(e);
-      if (std::string why = densifier.edge(e, j, curve, walk.edge_param[e], mid_lonlat[e], mid_xy[e]); !why.empty()) {
-        return fail(why, e_p_length, e_p_area);
+      for (std::size_t e = block_start; e < block_end; ++e) {
+        const std::size_t j = (e + 1) % path.lonlat_p.size();
+        // Bearing: grid bearing of the chord minus the true edge's azimuth at the start vertex.
+        double sin_azimuth = 0, cos_azimuth = 1;
+        walk.sincos(e, sin_azimuth, cos_azimuth);
+        bearing.add(path.xy[j].x - path.xy[e].x, path.xy[j].y - path.xy[e].y, sin_azimuth, cos_azimuth);
+        if (!densify) continue;
+        const PathDensifier::Curve curve = curve_of(e);
+        if (std::string why = densifier.edge(e, j, curve, walk.param(e), mid_lonlat[e - block_start],
+                                             mid_xy[e - block_start]);
+            !why.empty()) {
+          return fail(why, e_p_length, e_p_area);
+        }
       }
     }
     if (straight && edge_crs_is_target) {

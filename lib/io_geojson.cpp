@@ -432,7 +432,17 @@ bool feature_from_text_fast(const std::string& text, const ReaderOptions& option
   // place, any other is copied.
   const bool padded = text.capacity() - text.size() >= simdjson::SIMDJSON_PADDING;
   simdjson::dom::element root;
-  if (parser->parse(text.data(), text.size(), !padded).get(root) != simdjson::SUCCESS) return false;
+  // A large text is parsed into a document of its own, and its parser (an index of every structural character,
+  // 4 bytes each: 24 bytes per position) is released before the geometry is built from the document.
+  simdjson::dom::document own_document;
+  if (own_parser) {
+    if (own_parser->parse_into_document(own_document, text.data(), text.size(), !padded).get(root) !=
+        simdjson::SUCCESS)
+      return false;
+    own_parser.reset();
+  } else if (parser->parse(text.data(), text.size(), !padded).get(root) != simdjson::SUCCESS) {
+    return false;
+  }
   InputFeature g;
   g.line = f.line;
   try {

@@ -64,10 +64,15 @@ class ShortGeodesics {
     const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
     out.resize(edges);
     if (!vertices_apply(lonlat)) return false;
-    vertex_.resize(n);
-    for (std::size_t i = 0; i < n; ++i) vertex_[i] = vertex(lonlat[i].y);
+    // Each vertex's terms are computed once and carried to the next edge (no array of them: a long path costs
+    // no memory beyond `out`).
+    const Vertex first = n > 0 ? vertex(lonlat[0].y) : Vertex{};
+    Vertex start = first;
     for (std::size_t e = 0; e < edges; ++e) {
-      if (!edge(lonlat[e], vertex_[e], lonlat[(e + 1) % n], vertex_[(e + 1) % n], out[e])) return false;
+      const std::size_t j = (e + 1) % n;
+      const Vertex end = j == 0 ? first : vertex(lonlat[j].y);
+      if (!edge(lonlat[e], start, lonlat[j], end, out[e])) return false;
+      start = end;
     }
     return true;
   }
@@ -172,7 +177,6 @@ class ShortGeodesics {
   }
 
   double a_, e2_, e_, b_, ep2_, qp_, rq2_;
-  mutable std::vector<Vertex> vertex_;
 };
 
 }  // namespace gridtruth::detail

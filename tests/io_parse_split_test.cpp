@@ -13,6 +13,7 @@
 #include "../lib/io_detail.hpp"  // parse_json_feature_reference: the nlohmann-only reading, for comparison
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "test_files.hpp"
 
 namespace {
 
@@ -137,17 +138,8 @@ std::string collection_of(const std::vector<std::string>& texts) {
 
 std::vector<std::string> kept_fuzz_inputs() {
   std::vector<std::string> texts;
-  for (const char* dir : {"/fuzz/corpus", "/fuzz/regressions"}) {
-    const std::filesystem::path p = std::string(GRIDTRUTH_SOURCE_DIR) + dir;
-    if (!std::filesystem::exists(p)) continue;
-    for (const auto& e : std::filesystem::directory_iterator(p)) {
-      if (!e.is_regular_file() || e.path().extension() == ".md") continue;
-      std::ifstream in(e.path(), std::ios::binary);
-      std::ostringstream s;
-      s << in.rdbuf();
-      texts.push_back(s.str());
-    }
-  }
+  for (const auto& file : gridtruth::test_files::kept_fuzz_inputs(GRIDTRUTH_SOURCE_DIR))
+    texts.push_back(gridtruth::test_files::slurp(file.string()));
   return texts;
 }
 

@@ -1,4 +1,4 @@
-// Replays the fuzzing seeds (fuzz/corpus) and every input the fuzzer ever found failing (fuzz/regressions)
+// Replays the fuzzing seeds (fuzz/corpus/*/) and every input the fuzzers ever found failing (fuzz/regressions)
 // through all readers: each must end in features that hold a geometry or an error, or in gridtruth::Error.
 #include <gtest/gtest.h>
 
@@ -10,29 +10,15 @@
 
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "test_files.hpp"
 
 namespace {
 
-std::vector<std::filesystem::path> inputs() {
-  std::vector<std::filesystem::path> files;
-  for (const char* dir : {"/fuzz/corpus", "/fuzz/regressions"}) {
-    const std::filesystem::path p = std::string(GRIDTRUTH_SOURCE_DIR) + dir;
-    if (!std::filesystem::exists(p)) continue;
-    for (const auto& e : std::filesystem::directory_iterator(p))
-      if (e.is_regular_file() && e.path().filename().string()[0] != '.' && e.path().extension() != ".md")
-        files.push_back(e.path());
-  }
-  return files;
-}
-
 TEST(ReaderRegressions, EveryKeptInputEndsInFeaturesOrAnError) {
-  const auto files = inputs();
+  const auto files = gridtruth::test_files::kept_fuzz_inputs(GRIDTRUTH_SOURCE_DIR);
   ASSERT_FALSE(files.empty()) << "the fuzzing seeds are missing";
   for (const auto& file : files) {
-    std::ifstream in(file, std::ios::binary);
-    std::ostringstream s;
-    s << in.rdbuf();
-    const std::string text = s.str();
+    const std::string text = gridtruth::test_files::slurp(file.string());
     for (auto format : {gridtruth::InputFormat::automatic, gridtruth::InputFormat::geojson,
                         gridtruth::InputFormat::ndjson, gridtruth::InputFormat::csv}) {
       std::istringstream stream(text);

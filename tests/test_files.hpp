@@ -1,6 +1,8 @@
 // Test helpers shared by the end-to-end tests: whole files in and out, quoting for /bin/sh, reading CSV.
 #pragma once
 
+#include <algorithm>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 #include <string>
@@ -14,6 +16,22 @@ inline std::string slurp(const std::string& path) {
   std::ostringstream s;
   s << in.rdbuf();
   return s.str();
+}
+
+/// Every input the fuzzers keep (needs GRIDTRUTH_SOURCE_DIR): the seeds of each target (fuzz/corpus/<target>/) and
+/// the inputs that once failed (fuzz/regressions/), README files left out; sorted, so failures name the same file
+/// first on every run.
+inline std::vector<std::filesystem::path> kept_fuzz_inputs(const std::string& source_dir) {
+  std::vector<std::filesystem::path> files;
+  for (const char* dir : {"/fuzz/corpus", "/fuzz/regressions"}) {
+    const std::filesystem::path p = source_dir + dir;
+    if (!std::filesystem::exists(p)) continue;
+    for (const auto& e : std::filesystem::recursive_directory_iterator(p))
+      if (e.is_regular_file() && e.path().filename().string()[0] != '.' && e.path().extension() != ".md")
+        files.push_back(e.path());
+  }
+  std::sort(files.begin(), files.end());
+  return files;
 }
 
 /// Writes `text` as the whole file.
