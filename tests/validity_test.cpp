@@ -197,6 +197,9 @@ TEST(Validity, LegitimateFeaturesStayValid) {
       {"across the antimeridian, longitudes past 180",
        Geometry::polygon({{179.99, -16}, {180.01, -16}, {180.01, -15.99}, {179.99, -15.99}})},
       {"around the north pole", Geometry::polygon(circle_pole)},
+      // Two corners at the pole are one point (OGC 6.1.11.1 compares points, not their coordinates).
+      {"lune from the equator to the pole, 37° wide", Geometry::polygon({{0, 0}, {37, 0}, {37, 90}, {0, 90}})},
+      {"lune from the equator to the pole, 78° wide", Geometry::polygon({{222, 0}, {300, 0}, {300, -90}, {222, -90}})},
       {"around the south pole, clockwise", Geometry::polygon(circle_south)},
       {"1 m square", Geometry::polygon(box(10, 45, 10 + 1.0 / 78847, 45 + 1.0 / 111132))},
       {"continental (fits the plane)", Geometry::polygon(box(-125, 25, -67, 49), {box(-100, 35, -95, 40)})},
