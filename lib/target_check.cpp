@@ -150,7 +150,7 @@ std::string round_trip_problem(PJ* projection, const std::vector<Coord>& lonlat,
       if (!finite(c)) return "the vertex " + std::to_string(i) + " cannot be projected again";
       miss_m = unit_m * std::hypot(c.x - xy[i].x, c.y - xy[i].y);
     }
-    if (!(miss_m <= kRoundTripTolerance_m)) {
+    if (!(miss_m <= kVertexRoundTripTolerance_m)) {
       return "the target projection does not round-trip at vertex " + std::to_string(i) + " (" +
              number(lonlat[i].x) + ", " + number(lonlat[i].y) + "): " + number(miss_m) + " m apart";
     }

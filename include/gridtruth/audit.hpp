@@ -215,7 +215,7 @@ class Auditor {
   Auditor clone() const;
 
   /// Audits one feature. Never throws for a bad feature. A feature whose projected vertices do not round-trip
-  /// within 1 mm (a sample of them), or whose scale factors are not finite and positive, is `unmeasurable`.
+  /// within 0.1 m (a sample of four), or whose scale factors are not finite and positive, is `unmeasurable`.
   AuditResult audit(const Geometry& geometry) const;
   /// Audits one feature at its own ellipsoidal height (metres), instead of AuditOptions::height_m. A height that
   /// is not finite or out of range makes the feature `invalid`.
