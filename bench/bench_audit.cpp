@@ -63,11 +63,27 @@ void audit_benchmark(benchmark::State& state, bool closed_form) {
 }
 
 void BM_Audit(benchmark::State& state) { audit_benchmark(state, true); }
+
+/// validate() alone (coordinates and polygon topology), which the audit runs on every feature: its share of the
+/// audit is BM_Validate / BM_Audit per vertex.
+void BM_Validate(benchmark::State& state) {
+  const double edge_m = static_cast<double>(state.range(0));
+  const auto& polys = shapes(edge_m);
+  std::size_t problems = 0;
+  for (auto _ : state) {
+    for (const auto& g : polys) problems += gridtruth::validate(g).size();
+  }
+  benchmark::DoNotOptimize(problems);
+  state.counters["per_vertex"] = benchmark::Counter(static_cast<double>(vertex_total(polys)),
+                                                    benchmark::Counter::kIsIterationInvariantRate |
+                                                        benchmark::Counter::kInvert);
+}
 void BM_AuditInverseEveryEdge(benchmark::State& state) { audit_benchmark(state, false); }
 
 }  // namespace
 
 BENCHMARK(BM_Truth)->Arg(10)->Arg(1000)->Arg(100000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_Audit)->Arg(10)->Arg(1000)->Arg(100000)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_Validate)->Arg(10)->Arg(1000)->Arg(100000)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_AuditInverseEveryEdge)->Arg(10)->Arg(1000)->Unit(benchmark::kMicrosecond);
 BENCHMARK_MAIN();

@@ -90,6 +90,10 @@ for edge in (10, 1000):
     ratio = per[("BM_AuditInverseEveryEdge", edge)] / per[("BM_Audit", edge)]
     print(f"| audit with GeographicLib's inverse per edge / with closed-form short edges, {edge} m edges | {ratio:.2f} "
           f"({per[('BM_AuditInverseEveryEdge', edge)]:.2f} / {per[('BM_Audit', edge)]:.2f} µs) | (no target) |")
+for edge in (10, 1000, 100000):
+    ratio = per[("BM_Validate", edge)] / per[("BM_Audit", edge)]
+    print(f"| validate() (coordinates + polygon topology) / full audit, per vertex, {edge} m edges | {ratio:.3f} "
+          f"({per[('BM_Validate', edge)]:.3f} / {per[('BM_Audit', edge)]:.2f} µs) | ≤ 0.2 |")
 for edge, target in ((10, "≤ 2"), (1000, "≤ 2"), (100000, "≤ 16")):
     print(f"| densified points per vertex, {edge} m edges | {dens[edge]:.2f} | {target} |")
 print(f"| command 1 thread / 2 threads (speed-up) | {t1 / t2:.2f} ({t1:.2f} s / {t2:.2f} s) | ≥ 1.85 |")

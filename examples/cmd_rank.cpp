@@ -96,6 +96,7 @@ int run_rank(const RankArgs& a) {
   } else {
     o << "all features\n";
   }
+  o << "Features: " << report.features << " valid, " << report.invalid << " invalid (skipped)\n";
   o << "Metric: " << to_string(options.metric)
     << (options.metric == RankMetric::shape || options.metric == RankMetric::bearing ? " (ppm = microradians)" : "")
     << "\n\n";

@@ -66,6 +66,7 @@ int run_tailor(const TailorArgs& a) {
   const bool angular = options.rank.metric == RankMetric::shape || options.rank.metric == RankMetric::bearing;
   o << "Family: " << to_string(family) << "; metric: " << to_string(options.rank.metric)
     << (angular ? " (ppm = microradians)" : "") << "\n";
+  o << "Features: " << t.invalid << " invalid (skipped)\n";
   o << "Parameters:\n";
   for (const TailoredParameter& p : t.parameters) {
     char line[128];

@@ -62,6 +62,7 @@ struct AuditArgs {
   std::string units = "metric";
   std::string format = "auto";
   unsigned threads = 0;
+  bool repair = false;
 };
 
 /// One line on standard error: the reason the run could not go on.
@@ -117,6 +118,7 @@ int run_audit(const AuditArgs& args) {
   options.target_crs = args.target_crs;
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
+  options.repair = args.repair;
   const bool with_heights = args.height_m != 0 || !args.height_field.empty();
   cli::SummaryUnits units;
   ReaderOptions reader_options;
@@ -365,6 +367,9 @@ int main(int argc, char** argv) {
   audit->add_option("--densify-tolerance", args.densify_tolerance_m,
                     "largest planar deviation of a densified edge from the true edge, metres")
       ->capture_default_str();
+  audit->add_flag("--repair", args.repair,
+                  "make polygons with invalid topology (self-crossing rings, holes outside, overlapping parts, "
+                  "spikes) valid by the even-odd rule and audit them; their message says so (default: invalid)");
   audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
   audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");

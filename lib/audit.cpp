@@ -19,6 +19,7 @@
 #include "edge_quadrature.hpp"
 #include "proj_handles.hpp"
 #include "short_geodesics.hpp"
+#include "target_check.hpp"
 
 namespace gridtruth {
 
@@ -672,6 +673,9 @@ struct Auditor::Impl {
   std::string area_of_use_check(const std::vector<WorkPath>& paths, const std::vector<Coord>& points,
                                 bool& beyond_margin) const;
   void apply_verdict(AuditResult& r) const;
+  /// Why the projected vertices cannot be trusted (a sample does not round-trip); "" when they can.
+  std::string projected_vertices_problem(const std::vector<WorkPath>& paths, const std::vector<Coord>& points_p,
+                                         const std::vector<Coord>& points_xy) const;
   /// A projected source's geometry taken to longitude and latitude; problems listed like validate()'s.
   Geometry source_to_lonlat(const Geometry& g, std::vector<Problem>& problems) const;
 };
@@ -744,6 +748,8 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
     op_fast.reset(proj_create(c, pipeline));
   }
   if (!op_fast) op_fast.reset(proj_clone(c, op_proj.get()));
+  detail::check_target_projection(c, tgt_h.get(), op_fast.get(), target,
+                                  [this](double lon, double lat) { return factors_p(lon, lat); });
 
   // The edge model, and for straight edges the plane they are straight in.
   edges = o.edges ? *o.edges
@@ -1208,19 +1214,35 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   r.vertices = input.vertex_count();
   r.height_m = height_m;
   std::vector<Problem> problems;
-  std::optional<Geometry> converted;  // a projected source's geometry in longitude, latitude; else `input` itself
+  // A projected source's geometry in longitude, latitude, or the repaired geometry; else `input` itself (no copy).
+  std::optional<Geometry> converted;
   if (op_source) converted = source_to_lonlat(input, problems);
-  const Geometry& g = converted ? *converted : input;
-  for (Problem& p : validate(g)) problems.push_back(std::move(p));
+  for (Problem& p : validate(converted ? *converted : input)) problems.push_back(std::move(p));
   if (!std::isfinite(height_m) || height_m < -10000 || height_m > 100000) {
     problems.push_back({Problem::Code::non_finite, "height " + std::to_string(height_m) +
                                                        " m is not within -10000 m to 100000 m"});
+  }
+  std::string repair_note;  // what --repair did, at the head of the message
+  if (options.repair && !problems.empty() &&
+      std::all_of(problems.begin(), problems.end(), [](const Problem& p) { return is_topology(p.code); })) {
+    Repair fixed = repair(converted ? *converted : input);
+    if (fixed.repaired) {
+      repair_note = fixed.note + "; was: " + describe(problems);
+      converted = std::move(fixed.geometry);
+      problems.clear();
+    } else {
+      problems.push_back({problems.front().code, fixed.note});
+    }
   }
   if (!problems.empty()) {
     r.status = Status::invalid;
     r.message = describe(problems);
     return r;
   }
+  const Geometry& g = converted ? *converted : input;
+  auto with_note = [&repair_note](const std::string& message) {
+    return repair_note.empty() ? message : message.empty() ? repair_note : repair_note + "; " + message;
+  };
 
   // 1. Working copies of every path, without repeated vertices.
   std::vector<WorkPath> paths;
@@ -1251,7 +1273,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   // 2. Datum transformation and projection of the vertices (a failure is reported after the truth).
   std::vector<Coord> points_p, points_xy;
   std::string transform_failure = transform_vertices(paths, points_p, points_xy, points_s);
-  if (source_is_target && transform_failure.empty()) {
+  if (source_is_target && transform_failure.empty() && repair_note.empty()) {
     // The grid measure is what a GIS computes from the coordinates as given, not from their round trip through
     // longitude and latitude (which moves them by nanometres).
     std::size_t k = 0;
@@ -1336,12 +1358,15 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
 
   auto fail = [&](const std::string& why, double e_p_length, double e_p_area) {
     r.status = Status::unmeasurable;
-    r.message = why;
+    r.message = with_note(why);
     if (has_length) r.length = truth_only_budget(ref_length, e_s_length, e_p_length);
     if (has_area) r.area = truth_only_budget(ref_area, e_s_area, e_p_area);
     return r;
   };
   if (!transform_failure.empty()) return fail(transform_failure, kNaN, kNaN);
+  if (std::string why = projected_vertices_problem(paths, points_p, points_xy); !why.empty()) {
+    return fail(why, kNaN, kNaN);
+  }
   bool beyond_margin = false;
   const std::string area_of_use_message = area_of_use_check(paths, points_s, beyond_margin);
   if (beyond_margin) {
@@ -1490,6 +1515,11 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
 
   // 6. Distortion statistics at the vertices, points and densified points (sampled on large features).
   if (std::optional<Distortion> d = distortion_over(samples)) r.distortion = d;
+  if (!r.distortion) return fail("the target projection's scale factors cannot be evaluated at the feature", e_p_length, e_p_area);
+  if (std::string why = detail::distortion_problem(*r.distortion); !why.empty()) {
+    r.distortion.reset();
+    return fail("the target projection is degenerate at the feature: " + why, e_p_length, e_p_area);
+  }
   if (has_length) r.bearing_error_max_arcsec = bearing.largest_deg() * 3600;
 
   // 7. The budget.
@@ -1513,9 +1543,25 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
                                                                    r.distortion->areal_scale_max))
                                                 : kNaN);
   if (std::isfinite(mean_scale)) r.combined_factor = mean_scale * radius_m / (radius_m + height_m);
-  r.message = area_of_use_message;
+  r.message = with_note(area_of_use_message);
   apply_verdict(r);
   return r;
+}
+
+std::string Auditor::Impl::projected_vertices_problem(const std::vector<WorkPath>& paths,
+                                                      const std::vector<Coord>& points_p,
+                                                      const std::vector<Coord>& points_xy) const {
+  // A sample of four vertices: the target was checked at set-up, this catches a projection that degenerates
+  // away from its representative point. With a datum transformation lonlat_p is the inverse of xy, so the
+  // forward projection is compared instead.
+  constexpr std::size_t kChecked = 4;
+  const bool inverse = op_full == nullptr;
+  const double a_m = target.ellipsoid.a_m;
+  if (!paths.empty()) {
+    return detail::round_trip_problem(op_fast.get(), paths.front().lonlat_p, paths.front().xy, inverse, unit_m,
+                                      a_m, kChecked);
+  }
+  return detail::round_trip_problem(op_fast.get(), points_p, points_xy, inverse, unit_m, a_m, kChecked);
 }
 
 // ---- Auditor ----------------------------------------------------------------------------------------------------

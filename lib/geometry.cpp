@@ -7,6 +7,8 @@
 #include <string>
 #include <utility>
 
+#include "validity.hpp"
+
 namespace gridtruth {
 
 namespace {
@@ -248,6 +250,8 @@ std::vector<Problem> validate(const Geometry& geometry) {
         check_polygon(geometry.polygons[i], "polygon " + std::to_string(i), problems);
       break;
   }
+  // Topology only once every vertex is plausible and every ring has enough distinct vertices.
+  if (problems.empty()) detail::check_topology(geometry, problems);
   return problems;
 }
 

@@ -444,8 +444,12 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
   report.extent = extent_of(features);
   std::vector<std::size_t> usable;
   for (std::size_t i = 0; i < features.size(); ++i) {
-    if (valid(features[i])) ++report.features;
-    if (valid(features[i]) && carries(features[i], options.metric)) usable.push_back(i);
+    if (!valid(features[i])) {
+      ++report.invalid;
+      continue;
+    }
+    ++report.features;
+    if (carries(features[i], options.metric)) usable.push_back(i);
   }
   if (usable.empty()) {
     throw Error(ErrorCode::invalid_argument,

@@ -238,6 +238,8 @@ TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector
   };
   TailorResult out;
   out.family = family;
+  out.invalid = static_cast<std::size_t>(
+      std::count_if(features.begin(), features.end(), [](const Geometry& g) { return !validate(g).empty(); }));
   out.start_objective_ppm = objective(model.start);
   std::size_t used = 0;
   double best = kInf;

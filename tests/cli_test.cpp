@@ -677,8 +677,8 @@ TEST_F(CliTest, HostileGeoJsonFeatures) {
   };
   std::vector<std::string> features = {feature("good-first", small_square)};
   for (std::size_t k = 0; k < bad.size(); ++k) features.push_back(feature("bad-" + std::to_string(k), bad[k].first));
-  // A self-intersecting (bow-tie) ring is measured as the signed sum of its lobes (geometry.hpp); it must
-  // still give exactly one row.
+  // A self-intersecting (bow-tie) ring is invalid (OGC 06-103r4 6.1.11.1: rings are simple; issue 17, where it
+  // was `ok` with a true area of 0); it must still give exactly one row.
   features.push_back(feature(
       "bowtie", R"({"type":"Polygon","coordinates":[[[-93,44],[-92.9,44.1],[-92.9,44],[-93,44.1],[-93,44]]]})"));
   features.push_back(feature("huge", huge));
@@ -696,11 +696,12 @@ TEST_F(CliTest, HostileGeoJsonFeatures) {
   }
   const std::size_t n = features.size();
   EXPECT_EQ(r.cell(n - 3, "id"), "bowtie");
-  EXPECT_THAT(r.cell(n - 3, "status"), ::testing::AnyOf("ok", "invalid"));
+  EXPECT_EQ(r.cell(n - 3, "status"), "invalid");
+  EXPECT_THAT(r.cell(n - 3, "message"), HasSubstr("crosses itself"));
   EXPECT_EQ(r.cell(n - 2, "status"), "ok");
   EXPECT_EQ(r.cell(n - 2, "vertices"), "50000");
   EXPECT_EQ(r.cell(n - 1, "status"), "ok");
-  EXPECT_THAT(r.err, HasSubstr(std::to_string(bad.size()) + " invalid"));
+  EXPECT_THAT(r.err, HasSubstr(std::to_string(bad.size() + 1) + " invalid"));  // the bad ones and the bowtie
 }
 
 TEST_F(CliTest, TruncatedFilesKeepTheCompleteFeatures) {
@@ -1028,4 +1029,36 @@ TEST_F(CliTest, CellsThatLookLikeFormulasAreNeutralised) {
   EXPECT_EQ(r.cell(1, "id"), "-12.5");
   EXPECT_EQ(r.cell(2, "id"), "'@SUM(A1)");
   EXPECT_EQ(r.cell(3, "id"), "'+1+1");
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Issue 17: invalid topology and degenerate CRSs are never `ok`.
+
+TEST_F(CliTest, BowtieIsInvalidAndRepairIsOptIn) {
+  const std::string bowtie =
+      R"({"type":"Polygon","coordinates":[[[-95.40,44.10],[-95.375,44.1135],[-95.375,44.10],[-95.40,44.1135],[-95.40,44.10]]]})";
+  const std::string input = collection({feature("bowtie", bowtie), feature("square", small_square)});
+  const CliRun plain = audit_text("b.geojson", input, {"--crs", "EPSG:32615"});
+  EXPECT_EQ(plain.status, 1) << plain.err;
+  EXPECT_EQ(plain.cell(0, "status"), "invalid");
+  EXPECT_THAT(plain.cell(0, "message"), HasSubstr("crosses itself"));
+  EXPECT_EQ(plain.cell(1, "status"), "ok");
+  const CliRun fixed = audit_text("b.geojson", input, {"--crs", "EPSG:32615", "--repair"});
+  EXPECT_EQ(fixed.status, 0) << fixed.err;
+  EXPECT_EQ(fixed.cell(0, "status"), "ok");
+  EXPECT_THAT(fixed.cell(0, "message"), StartsWith("repaired by the even-odd rule"));
+  EXPECT_THAT(fixed.cell(0, "message"), HasSubstr("crosses itself"));  // what was wrong
+  // The two lobes: together half the square's area (two triangles on the diagonals; planar geometry, common
+  // practice), to 1e-3 relative (the lobes' geodesic edges differ from the square's halves by far less).
+  EXPECT_NEAR(fixed.number(0, "true_area_m2"), 0.5 * fixed.number(1, "true_area_m2"),
+              1e-3 * fixed.number(1, "true_area_m2"));
+}
+
+TEST_F(CliTest, DegenerateTargetCrsIsRefused) {
+  // Before issue 17: grid area 0, −10⁶ ppm and convergence −180°, all `ok`, exit 0.
+  for (const std::string crs : {"+proj=tmerc +lon_0=1e308", "+proj=tmerc +x_0=1e300"}) {
+    const CliRun r = audit_text("p.geojson", collection({feature("P", small_square)}), {"--crs", crs});
+    expect_unusable(r, crs);
+    EXPECT_THAT(r.err, HasSubstr("degenerate")) << crs;
+  }
 }

@@ -386,6 +386,34 @@ TEST_F(RankCli, WritesTheRankingCsvAndExitsZero) {
   }
 }
 
+// Issue 17: invalid features (here a bowtie, OGC 06-103r4 6.1.11.1: rings are simple) are skipped, and counted.
+TEST(Rank, InvalidFeaturesAreSkippedAndCounted) {
+  const Geometry square = Geometry::polygon({{-93.4, 41}, {-93.3, 41}, {-93.3, 41.1}, {-93.4, 41.1}});
+  const Geometry bowtie = Geometry::polygon({{-93, 41}, {-92.9, 41.1}, {-92.9, 41}, {-93, 41.1}});
+  RankOptions o;
+  o.metric = RankMetric::area;
+  o.leaders = 2;
+  const RankReport report = rank_crs({square, bowtie, square}, {}, o);
+  EXPECT_EQ(report.features, 2u);
+  EXPECT_EQ(report.invalid, 1u);
+  ASSERT_FALSE(report.ranked.empty());
+  EXPECT_EQ(report.ranked.front().features, 2u);
+  TailorOptions t;
+  t.rank.metric = RankMetric::area;
+  t.compare_registry = false;
+  EXPECT_EQ(tailor_crs({square, bowtie, square}, {}, ProjectionFamily::transverse_mercator, t).invalid, 1u);
+}
+
+TEST_F(RankCli, SaysHowManyInvalidFeaturesWereSkipped) {
+  std::ofstream(dir_ + "/in.csv", std::ios::app) << "bowtie,\"POLYGON((-93 41,-92.9 41.1,-92.9 41,-93 41.1,-93 41))\"\n";
+  const CliRun r = run("rank " + dir_ + "/in.csv --metric area --top 2", dir_);
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_NE(r.out.find("Features: 4 valid, 1 invalid (skipped)"), std::string::npos) << r.out;
+  const CliRun t = run("tailor " + dir_ + "/in.csv --family transverse-mercator --metric area --no-compare", dir_);
+  ASSERT_EQ(t.status, 0) << t.err;
+  EXPECT_NE(t.out.find("Features: 1 invalid (skipped)"), std::string::npos) << t.out;
+}
+
 TEST_F(RankCli, BadOptionsAndUnreadableInputExitTwoWithOneLine) {
   for (const std::string& args : {"rank " + dir_ + "/in.csv --metric volume", "rank " + dir_ + "/missing.csv",
                                   "rank " + dir_ + "/in.csv --tolerance area=abc",

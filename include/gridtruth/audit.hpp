@@ -74,6 +74,10 @@ struct AuditOptions {
   /// 1e-9 relative + 1e-3 m², lengths within 1e-9 relative + 1 nm, bearing errors within 0.01″. Any other path is
   /// solved by GeographicLib. Set to false to solve every edge with GeographicLib.
   bool closed_form_short_edges = true;
+  /// Polygons whose only problems are topological (validate(): self-intersection, spike, crossing rings, holes
+  /// outside or nested, disconnected interior, overlapping parts) are made valid by repair() and audited; the
+  /// result's message starts with "repaired ..." and lists what was wrong. Off: such features are `invalid`.
+  bool repair = false;
 };
 
 /// One measure (length in m, or area in m²) with its budget.
@@ -200,7 +204,10 @@ class Auditor {
   /// unknown_crs (a definition PROJ cannot make a CRS of); unsupported_crs (a source that is neither geographic nor
   /// projected, a target that is not projected, straight edges in a CRS that is not projected); no_transformation
   /// (PROJ offers no operation); invalid_argument (no target CRS, densify_tolerance_m not a positive number,
-  /// height_m outside [-10000, 100000] m, a negative area_of_use_margin_deg).
+  /// height_m outside [-10000, 100000] m, a negative area_of_use_margin_deg). A degenerate target is refused with
+  /// unsupported_crs: a conversion parameter that is not finite or an angle beyond ±360°, or a projection that at
+  /// its area of use's centre and at its natural origin fails to project, to round-trip within 1 mm, or to have
+  /// finite positive scale factors.
   explicit Auditor(const AuditOptions& options);
   ~Auditor();
   /// Moves; the moved-from auditor may only be destroyed or assigned to.
@@ -214,7 +221,8 @@ class Auditor {
   /// cheaper than construction. Throws Error(no_transformation) in the rare case PROJ cannot copy its objects.
   Auditor clone() const;
 
-  /// Audits one feature. Never throws for a bad feature.
+  /// Audits one feature. Never throws for a bad feature. A feature whose projected vertices do not round-trip
+  /// within 0.1 m (a sample of four), or whose scale factors are not finite and positive, is `unmeasurable`.
   AuditResult audit(const Geometry& geometry) const;
   /// Audits one feature at its own ellipsoidal height (metres), instead of AuditOptions::height_m. A height that
   /// is not finite or out of range makes the feature `invalid`.

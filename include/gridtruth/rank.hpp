@@ -97,6 +97,7 @@ struct RankReport {
   GeoExtent extent;                ///< the features' extent
   std::size_t candidates = 0;      ///< candidates screened
   std::size_t features = 0;        ///< valid features given
+  std::size_t invalid = 0;         ///< features skipped because validate() finds a problem (e.g. a crossing ring)
   std::size_t sample = 0;          ///< features in the sample (== features when no sample was drawn)
   /// The exactly audited candidates, best first: by unmeasured count, then worst_ppm, then p95_ppm, then crs id.
   /// When a sample was drawn, the candidates re-audited on every feature come first.
@@ -109,7 +110,8 @@ struct RankReport {
 std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptions& options);
 
 /// Ranks candidate CRSs for the features (longitude, latitude in options.source_crs). heights_m is empty or holds
-/// one ellipsoidal height per feature (ground lift). Invalid features are ignored. Throws Error(invalid_argument)
+/// one ellipsoidal height per feature (ground lift). Invalid features (validate(), topology included) are skipped
+/// and counted in RankReport::invalid. Throws Error(invalid_argument)
 /// when no feature carries the metric (e.g. an area metric without polygons).
 RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
                     const RankOptions& options);

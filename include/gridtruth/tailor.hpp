@@ -50,6 +50,7 @@ struct TailorResult {
   std::size_t evaluations = 0;     ///< objective evaluations used
   RankedCrs audit;                 ///< the exact audit of the tailored CRS on every feature
   std::optional<RankedCrs> best_registry;  ///< the best database CRS by exact audit (compare_registry)
+  std::size_t invalid = 0;  ///< features skipped because validate() finds a problem (e.g. a crossing ring)
 };
 
 /// Fits a family's parameters to the features (longitude, latitude in options.rank.source_crs; heights_m empty or
