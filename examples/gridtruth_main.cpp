@@ -21,6 +21,7 @@
 #include "audit_summary.hpp"
 #include "commands.hpp"
 #include "gridtruth/audit.hpp"
+#include "gridtruth/crs.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "gridtruth/report.hpp"
@@ -42,7 +43,8 @@ constexpr int exit_unusable = 2;
 struct AuditArgs {
   std::string input;
   std::string target_crs;
-  std::string source_crs = "EPSG:4326";
+  std::string source_crs;  // empty: the input's own CRS, else EPSG:4326
+  std::string layer;
   double height_m = 0;
   std::string height_field;
   std::string edges;
@@ -132,6 +134,28 @@ int run_audit(const AuditArgs& args) {
   reader_options.id_field = args.id_field;
   reader_options.wkt_field = args.wkt_field;
   reader_options.height_field = args.height_field;
+  reader_options.layer = args.layer;
+
+  std::optional<FeatureReader> reader;
+  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
+  try {
+    reader.emplace(args.input, reader_options);
+  } catch (const Error& e) {
+    return fail_run(e.what());
+  }
+  try {
+    // The source CRS: the one the input names for itself (a .prj, a layer's SRS, a GeoJSON "crs" member) unless
+    // --source-crs overrides it; then a disagreement is worth a warning, since one of the two is wrong.
+    const std::string declared = reader->declared_crs();
+    if (args.source_crs.empty()) {
+      options.source_crs = declared.empty() ? std::string("EPSG:4326") : declared;
+    } else if (!declared.empty() && !same_crs(args.source_crs, declared)) {
+      std::cerr << "gridtruth: warning: --source-crs " << args.source_crs << " overrides the CRS " << input_name
+                << " names for itself (" << describe_crs(declared).name << ")\n";
+    }
+  } catch (const Error& e) {
+    return fail_run(input_name + ": " + e.what());
+  }
 
   std::optional<Auditor> auditor;
   try {
@@ -140,13 +164,6 @@ int run_audit(const AuditArgs& args) {
     return fail_run(e.what());
   } catch (const std::exception& e) {
     return fail_run(std::string("cannot set up the audit: ") + e.what());
-  }
-
-  std::optional<FeatureReader> reader;
-  try {
-    reader.emplace(args.input, reader_options);
-  } catch (const Error& e) {
-    return fail_run(e.what());
   }
 
   // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind.
@@ -209,7 +226,6 @@ int run_audit(const AuditArgs& args) {
   Progress progress;
   RunOptions run_options;
   run_options.threads = args.threads;
-  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
   try {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
       if (!writer) open_outputs();
@@ -290,7 +306,9 @@ const char* audit_footer =
     "            latitude in the source CRS.\n"
     "  ndjson    one GeoJSON Feature per line; RFC 8142 record separators (0x1E) are accepted.\n"
     "  csv       RFC 4180 CSV with a header line; geometry as WKT in the --wkt-field column.\n"
-    "  auto      guessed from the first bytes (also for '-', standard input).\n"
+    "  gdal      any vector data source GDAL reads: Shapefile, GeoPackage (--layer), FlatGeobuf, OpenFileGDB,\n"
+    "            GML, KML, ...; the layer's own CRS is the source CRS; the FID is the id.\n"
+    "  auto      guessed from the first bytes and the name (also for '-', standard input).\n"
     "Feature id: the GeoJSON feature \"id\", else the --id-field property or column, else the 1-based position.\n"
     "\n"
     "Tolerances (--tolerance, comma-separated metric=limit):\n"
@@ -363,8 +381,9 @@ int main(int argc, char** argv) {
       ->required();
   audit->add_option("--source-crs", args.source_crs,
                     "CRS of the input coordinates: geographic (longitude, latitude) or projected (easting, northing "
-                    "in its unit)")
-      ->capture_default_str();
+                    "in its unit); default: the CRS the input names (.prj, layer, GeoJSON \"crs\"), else "
+                    "EPSG:4326");
+  audit->add_option("--layer", args.layer, "layer of a GDAL data source with several (GeoPackage, file geodatabase)");
   audit->add_option("--height", args.height_m, "ellipsoidal height of the features in metres (ground lift)")
       ->capture_default_str();
   audit->add_option("--height-field", args.height_field,
@@ -390,7 +409,7 @@ int main(int argc, char** argv) {
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();
   audit->add_option("--format", args.format, "input format")
-      ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv"}))
+      ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv", "gdal"}))
       ->capture_default_str();
   audit->add_option("--threads", args.threads, "worker threads; 0 uses every hardware thread")
       ->capture_default_str();
