@@ -13,6 +13,7 @@
 #include <cstdio>
 #include <fstream>
 #include <iostream>
+#include <limits>
 #include <memory>
 #include <optional>
 #include <stdexcept>
@@ -45,6 +46,7 @@ struct AuditArgs {
   std::string target_crs;
   std::string source_crs;  // empty: the input's own CRS, else EPSG:4326
   std::string layer;
+  std::string area_of_use_margin = "5";
   double height_m = 0;
   std::string height_field;
   std::string edges;
@@ -120,6 +122,16 @@ int run_audit(const AuditArgs& args) {
   options.target_crs = args.target_crs;
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
+  if (args.area_of_use_margin == "off") {
+    options.area_of_use_margin_deg = std::numeric_limits<double>::infinity();
+  } else {
+    char* end = nullptr;
+    options.area_of_use_margin_deg = std::strtod(args.area_of_use_margin.c_str(), &end);
+    if (args.area_of_use_margin.empty() || *end != '\0' || !(options.area_of_use_margin_deg >= 0) ||
+        !std::isfinite(options.area_of_use_margin_deg))
+      return fail_run("--area-of-use-margin must be a number of degrees >= 0 or \"off\" (got \"" +
+                      args.area_of_use_margin + "\")");
+  }
   const bool with_heights = args.height_m != 0 || !args.height_field.empty();
   cli::SummaryUnits units;
   ReaderOptions reader_options;
@@ -395,6 +407,10 @@ int main(int argc, char** argv) {
   audit->add_option("--tolerance", args.tolerance, "comma-separated limits, e.g. area=0.1%,length=1:10000");
   audit->add_option("--densify-tolerance", args.densify_tolerance_m,
                     "largest planar deviation of a densified edge from the true edge, metres")
+      ->capture_default_str();
+  audit->add_option("--area-of-use-margin", args.area_of_use_margin,
+                    "degrees a vertex may lie outside the target CRS's area of use before the feature is "
+                    "unmeasurable (within it: measured with a warning); 'off': always measured, with the warning")
       ->capture_default_str();
   audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
