@@ -19,9 +19,6 @@
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 
-#ifdef GRIDTRUTH_WITH_GDAL
-#include "raster_gdal.hpp"
-#endif
 
 namespace gridtruth::cli {
 
@@ -136,13 +133,8 @@ void read_counts(const std::string& path, ClassAreaAccumulator& acc) {
   }
 }
 
-#ifdef GRIDTRUTH_WITH_GDAL
-constexpr bool with_gdal = true;
-#else
-constexpr bool with_gdal = false;
-#endif
-
 int run_cells(const CellsArgs& a) {
+  const bool with_gdal = built_with_gdal();
   GridSpec spec;
   std::optional<std::uint32_t> nodata;
   std::string format = a.classes_format;
@@ -162,17 +154,15 @@ int run_cells(const CellsArgs& a) {
   } catch (const BadOption& e) {
     return fail(e.what());
   }
-#ifdef GRIDTRUTH_WITH_GDAL
   if (format == "gdal") {
     try {
-      const RasterHeader header = read_raster_header(a.classes);
+      const ClassRasterHeader header = read_class_raster_header(a.classes);
       spec = header.grid;
       nodata = header.nodata;
     } catch (const Error& e) {
       return fail(e.what());
     }
   }
-#endif
   try {
     // Grid options given override what a raster file says about itself.
     if (!a.grid_crs.empty()) spec.crs = a.grid_crs;
@@ -208,9 +198,7 @@ int run_cells(const CellsArgs& a) {
     ClassAreaAccumulator acc(*grid, nodata);
     try {
       if (format == "counts") read_counts(a.classes, acc);
-#ifdef GRIDTRUTH_WITH_GDAL
-      else if (format == "gdal") add_raster_classes(a.classes, spec, acc);
-#endif
+      else if (format == "gdal") add_class_raster(a.classes, spec, acc);
       else read_raw(a.classes, *grid, a.class_type == "uint16", acc);
     } catch (const Error& e) {
       return fail(e.what());

@@ -15,6 +15,7 @@
 #include <cstdio>
 #include <fstream>
 #include <iostream>
+#include <limits>
 #include <memory>
 #include <optional>
 #include <stdexcept>
@@ -47,7 +48,9 @@ constexpr int exit_unusable = 2;
 struct AuditArgs {
   std::string input;
   std::string target_crs;
-  std::string source_crs = "EPSG:4326";
+  std::string source_crs;  // empty: the input's own CRS, else EPSG:4326
+  std::string layer;
+  std::string area_of_use_margin = "5";
   double height_m = 0;
   std::string height_field;
   std::string edges;
@@ -119,6 +122,16 @@ int run_audit(const AuditArgs& args) {
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
   options.repair = args.repair;
+  if (args.area_of_use_margin == "off") {
+    options.area_of_use_margin_deg = std::numeric_limits<double>::infinity();
+  } else {
+    char* end = nullptr;
+    options.area_of_use_margin_deg = std::strtod(args.area_of_use_margin.c_str(), &end);
+    if (args.area_of_use_margin.empty() || *end != '\0' || !(options.area_of_use_margin_deg >= 0) ||
+        !std::isfinite(options.area_of_use_margin_deg))
+      return fail_run("--area-of-use-margin must be a number of degrees >= 0 or \"off\" (got \"" +
+                      args.area_of_use_margin + "\")");
+  }
   const bool with_heights = args.height_m != 0 || !args.height_field.empty();
   cli::SummaryUnits units;
   ReaderOptions reader_options;
@@ -133,15 +146,7 @@ int run_audit(const AuditArgs& args) {
   reader_options.id_field = args.id_field;
   reader_options.wkt_field = args.wkt_field;
   reader_options.height_field = args.height_field;
-
-  std::optional<Auditor> auditor;
-  try {
-    auditor.emplace(options);
-  } catch (const Error& e) {
-    return fail_run(e.what());
-  } catch (const std::exception& e) {
-    return fail_run(std::string("cannot set up the audit: ") + e.what());
-  }
+  reader_options.layer = args.layer;
 
   std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
   for (const std::string* path : {&args.summary, &args.report, &args.geojson})
@@ -151,10 +156,33 @@ int run_audit(const AuditArgs& args) {
 
   if (args.input == "-" && cli::standard_input_closed()) return fail_run("cannot read standard input: it is closed");
   std::optional<FeatureReader> reader;
+  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
   try {
     reader.emplace(args.input, reader_options);
   } catch (const Error& e) {
     return fail_run(e.what());
+  }
+  try {
+    // The source CRS: the one the input names for itself (a .prj, a layer's SRS, a GeoJSON "crs" member) unless
+    // --source-crs overrides it; then a disagreement is worth a warning, since one of the two is wrong.
+    const std::string declared = reader->declared_crs();
+    if (args.source_crs.empty()) {
+      options.source_crs = declared.empty() ? std::string("EPSG:4326") : declared;
+    } else if (!declared.empty() && !same_crs(args.source_crs, declared)) {
+      std::cerr << "gridtruth: warning: --source-crs " << args.source_crs << " overrides the CRS " << input_name
+                << " names for itself (" << describe_crs(declared).name << ")\n";
+    }
+  } catch (const Error& e) {
+    return fail_run(input_name + ": " + e.what());
+  }
+
+  std::optional<Auditor> auditor;
+  try {
+    auditor.emplace(options);
+  } catch (const Error& e) {
+    return fail_run(e.what());
+  } catch (const std::exception& e) {
+    return fail_run(std::string("cannot set up the audit: ") + e.what());
   }
 
   // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
@@ -192,7 +220,6 @@ int run_audit(const AuditArgs& args) {
   Progress progress;
   RunOptions run_options;
   run_options.threads = args.threads;
-  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
   try {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
       if (!writer) open_outputs();
@@ -269,7 +296,9 @@ const char* audit_footer =
     "            latitude in the source CRS.\n"
     "  ndjson    one GeoJSON Feature per line; RFC 8142 record separators (0x1E) are accepted.\n"
     "  csv       RFC 4180 CSV with a header line; geometry as WKT in the --wkt-field column.\n"
-    "  auto      guessed from the first bytes (also for '-', standard input).\n"
+    "  gdal      any vector data source GDAL reads: Shapefile, GeoPackage (--layer), FlatGeobuf, OpenFileGDB,\n"
+    "            GML, KML, ...; the layer's own CRS is the source CRS; the FID is the id.\n"
+    "  auto      guessed from the first bytes and the name (also for '-', standard input).\n"
     "Feature id: the GeoJSON feature \"id\", else the --id-field property or column, else the 1-based position.\n"
     "\n"
     "Tolerances (--tolerance, comma-separated metric=limit):\n"
@@ -353,8 +382,9 @@ int main(int argc, char** argv) {
       ->required();
   audit->add_option("--source-crs", args.source_crs,
                     "CRS of the input coordinates: geographic (longitude, latitude) or projected (easting, northing "
-                    "in its unit)")
-      ->capture_default_str();
+                    "in its unit); default: the CRS the input names (.prj, layer, GeoJSON \"crs\"), else "
+                    "EPSG:4326");
+  audit->add_option("--layer", args.layer, "layer of a GDAL data source with several (GeoPackage, file geodatabase)");
   audit->add_option("--height", args.height_m, "ellipsoidal height of the features in metres (ground lift)")
       ->capture_default_str();
   audit->add_option("--height-field", args.height_field,
@@ -370,6 +400,10 @@ int main(int argc, char** argv) {
   audit->add_flag("--repair", args.repair,
                   "make polygons with invalid topology (self-crossing rings, holes outside, overlapping parts, "
                   "spikes) valid by the even-odd rule and audit them; their message says so (default: invalid)");
+  audit->add_option("--area-of-use-margin", args.area_of_use_margin,
+                    "degrees a vertex may lie outside the target CRS's area of use before the feature is "
+                    "unmeasurable (within it: measured with a warning); 'off': always measured, with the warning")
+      ->capture_default_str();
   audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
   audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");
@@ -383,7 +417,7 @@ int main(int argc, char** argv) {
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();
   audit->add_option("--format", args.format, "input format")
-      ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv"}))
+      ->check(CLI::IsMember({"auto", "geojson", "ndjson", "csv", "gdal"}))
       ->capture_default_str();
   audit->add_option("--threads", args.threads, "worker threads; 0 uses every hardware thread")
       ->capture_default_str();

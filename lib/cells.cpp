@@ -461,4 +461,19 @@ std::vector<ClassArea> ClassAreaAccumulator::result() const {
   return out;
 }
 
+#ifndef GRIDTRUTH_WITH_GDAL
+// Without GDAL (lib/gdal/raster.cpp is not built): say so when a raster is asked for.
+bool built_with_gdal() noexcept { return false; }
+
+namespace {
+[[noreturn]] void no_gdal(const std::string& path) {
+  throw Error(ErrorCode::io, path + ": this build of gridtruth reads rasters only through GDAL: install Debian's "
+                                    "libgdal-dev and configure again (GRIDTRUTH_WITH_GDAL)");
+}
+}  // namespace
+
+ClassRasterHeader read_class_raster_header(const std::string& path) { no_gdal(path); }
+void add_class_raster(const std::string& path, const GridSpec&, ClassAreaAccumulator&) { no_gdal(path); }
+#endif
+
 }  // namespace gridtruth

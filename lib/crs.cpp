@@ -272,4 +272,12 @@ CrsInfo describe_crs(const std::string& definition) {
 void set_crs_file_access(CrsFileAccess access) noexcept { detail::file_access.store(access); }
 CrsFileAccess crs_file_access() noexcept { return detail::file_access.load(); }
 
+bool same_crs(const std::string& a, const std::string& b) {
+  detail::Context ctx = detail::make_context();
+  const detail::Pj pa = detail::resolve_crs(ctx.get(), a);
+  const detail::Pj pb = detail::resolve_crs(ctx.get(), b);
+  return proj_is_equivalent_to_with_ctx(ctx.get(), pa.get(), pb.get(),
+                                        PJ_COMP_EQUIVALENT_EXCEPT_AXIS_ORDER_GEOGCRS) != 0;
+}
+
 }  // namespace gridtruth

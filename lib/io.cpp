@@ -9,10 +9,12 @@
 #include <cstring>
 #include <fstream>
 #include <istream>
+#include <sstream>
 #include <streambuf>
 #include <utility>
 #include <vector>
 
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "gridtruth/error.hpp"
@@ -77,6 +79,7 @@ std::string_view to_string(InputFormat format) noexcept {
     case InputFormat::geojson: return "geojson";
     case InputFormat::ndjson: return "ndjson";
     case InputFormat::csv: return "csv";
+    case InputFormat::gdal: return "gdal";
   }
   return "auto";
 }
@@ -89,8 +92,9 @@ InputFormat parse_input_format(std::string_view name) {
   if (lower == "ndjson" || lower == "geojsonseq" || lower == "geojsonl" || lower == "jsonl")
     return InputFormat::ndjson;
   if (lower == "csv") return InputFormat::csv;
+  if (lower == "gdal" || lower == "ogr") return InputFormat::gdal;
   throw Error(ErrorCode::invalid_argument,
-              "unknown input format \"" + std::string(name) + "\" (expected auto, geojson, ndjson or csv)");
+              "unknown input format \"" + std::string(name) + "\" (expected auto, geojson, ndjson, csv or gdal)");
 }
 
 InputFormat sniff_format(std::string_view head) noexcept {
@@ -172,6 +176,8 @@ struct FeatureReader::Impl {
 
   Impl(std::istream& in, ReaderOptions o, std::unique_ptr<std::istream> f = nullptr)
       : file(std::move(f)), source(in), options(std::move(o)) {}
+  /// Sniffs the format and makes its reader, once.
+  void open_reader();
 };
 
 FeatureReader::FeatureReader(std::istream& in, ReaderOptions options)
@@ -190,7 +196,65 @@ std::unique_ptr<std::ifstream> open_file(const std::string& path) {
 }
 }  // namespace
 
+namespace detail {
+
+std::string ogr_source_kind(const std::string& path, InputFormat format) {
+  if (path == "-" || format == InputFormat::geojson || format == InputFormat::ndjson || format == InputFormat::csv)
+    return {};
+  if (format == InputFormat::gdal) return "GDAL data source";
+  struct stat st {};
+  if (::stat(path.c_str(), &st) != 0) {
+    // Not a file: a GDAL data source name ("/vsizip/a.zip/b.shp", "PG:dbname=...") goes to GDAL, anything else
+    // to the native reader, which says the file cannot be opened.
+    if (path.rfind("/vsi", 0) == 0 || (path.find(':') != std::string::npos && path.find(':') > 1))
+      return "GDAL data source name";
+    return {};
+  }
+  if (S_ISDIR(st.st_mode)) return "directory (e.g. an OpenFileGDB .gdb or a folder of shapefiles)";
+  char head[16] = {};
+  std::size_t got = 0;
+  if (std::ifstream in(path, std::ios::binary); in) {
+    in.read(head, sizeof head);
+    got = static_cast<std::size_t>(in.gcount());
+  }
+  const std::string_view bytes(head, got);
+  // The SQLite file header string (sqlite.org/fileformat.html, section 1.3); a GeoPackage is an SQLite file.
+  if (bytes.substr(0, 16) == std::string_view("SQLite format 3\0", 16)) return "GeoPackage or SQLite";
+  // File code 9994, big-endian (ESRI Shapefile Technical Description, July 1998, table 1).
+  if (bytes.substr(0, 4) == std::string_view("\0\0\x27\x0A", 4)) return "Shapefile";
+  if (bytes.substr(0, 3) == "fgb") return "FlatGeobuf";
+  if (bytes.substr(0, 4) == "PK\x03\x04") return "ZIP archive (e.g. KMZ)";
+  std::string ext;
+  if (const auto dot = path.rfind('.'); dot != std::string::npos && path.find('/', dot) == std::string::npos)
+    ext = path.substr(dot + 1);
+  for (auto& c : ext) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  for (const char* known : {"shp", "dbf", "gpkg", "sqlite", "fgb", "gml", "kml", "kmz", "gpx", "gdb", "tab", "mif",
+                            "dxf", "xlsx", "ods", "parquet", "arrow", "osm", "pbf", "svg", "gmt", "vrt"})
+    if (ext == known) return ext + " file";
+  std::size_t i = bytes.substr(0, 3) == "\xEF\xBB\xBF" ? 3 : 0;
+  while (i < bytes.size() && is_json_space(static_cast<unsigned char>(bytes[i]))) ++i;
+  if (i < bytes.size() && bytes[i] == '<') return "XML document (GML, KML, GPX, ...)";
+  return {};
+}
+
+
+}  // namespace detail
+
 FeatureReader::FeatureReader(const std::string& path, ReaderOptions options) {
+  if (const std::string kind = detail::ogr_source_kind(path, options.format); !kind.empty()) {
+#ifdef GRIDTRUTH_WITH_GDAL
+    auto none = std::make_unique<std::istringstream>();
+    std::istream& stream = *none;
+    impl_ = std::make_unique<Impl>(stream, std::move(options), std::move(none));
+    impl_->reader = detail::make_ogr_reader(path, impl_->options);
+    impl_->format = InputFormat::gdal;
+    return;
+#else
+    throw Error(ErrorCode::io, path + " looks like a " + kind +
+                                   ", which this build of gridtruth reads only through GDAL: install Debian's "
+                                   "libgdal-dev and configure again (GRIDTRUTH_WITH_GDAL)");
+#endif
+  }
   if (path == "-") {
     struct stat st {};
     if (::fstat(STDIN_FILENO, &st) != 0)
@@ -211,18 +275,26 @@ FeatureReader::~FeatureReader() = default;
 FeatureReader::FeatureReader(FeatureReader&&) noexcept = default;
 FeatureReader& FeatureReader::operator=(FeatureReader&&) noexcept = default;
 
+void FeatureReader::Impl::open_reader() {
+  if (reader) return;
+  format = options.format;
+  if (format == InputFormat::automatic) format = sniff_format(source.look_ahead(1 << 16));
+  switch (format) {
+    case InputFormat::ndjson: reader = detail::make_ndjson_reader(source, options); break;
+    case InputFormat::csv: reader = detail::make_csv_reader(source, options); break;
+    default: reader = detail::make_geojson_reader(source, options); break;
+  }
+}
+
+std::string FeatureReader::declared_crs() {
+  impl_->open_reader();
+  return impl_->reader->declared_crs();
+}
+
 std::optional<RawFeature> FeatureReader::next_raw() {
   auto& s = *impl_;
   if (s.done) return std::nullopt;
-  if (!s.reader) {
-    s.format = s.options.format;
-    if (s.format == InputFormat::automatic) s.format = sniff_format(s.source.look_ahead(1 << 16));
-    switch (s.format) {
-      case InputFormat::ndjson: s.reader = detail::make_ndjson_reader(s.source, s.options); break;
-      case InputFormat::csv: s.reader = detail::make_csv_reader(s.source, s.options); break;
-      default: s.reader = detail::make_geojson_reader(s.source, s.options); break;
-    }
-  }
+  s.open_reader();
   std::optional<RawFeature> raw;
   try {
     raw = s.reader->next_raw();

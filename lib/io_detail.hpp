@@ -91,6 +91,9 @@ class FormatReader {
   /// span it just recorded sets `position` to row_pending; the facade puts the feature's position there.
   std::vector<InputProblem> problems;
   static constexpr std::size_t row_pending = static_cast<std::size_t>(-1);
+  /// The CRS the input names for itself (see FeatureReader::declared_crs()); may read ahead (not past the first
+  /// feature). Empty when it names none.
+  virtual std::string declared_crs() { return {}; }
 };
 
 /// The text with every byte that is not part of valid UTF-8, and every control character, written as \xNN: safe
@@ -110,6 +113,12 @@ void parse_json_feature_reference(const RawFeature& raw, const ReaderOptions& op
 std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_csv_reader(Source& source, const ReaderOptions& options);
+/// What kind of GDAL/OGR data source `path` is ("GeoPackage or SQLite", "Shapefile", ...), judged by
+/// `format`, the path's kind (a directory), its first bytes and its extension; empty when it is one of the text
+/// formats gridtruth reads itself (GeoJSON, ndjson, CSV) or cannot be opened at all.
+std::string ogr_source_kind(const std::string& path, InputFormat format);
+/// Reads one layer of a GDAL vector data source (lib/gdal/vector_reader.cpp; only with GRIDTRUTH_WITH_GDAL).
+std::unique_ptr<FormatReader> make_ogr_reader(const std::string& path, const ReaderOptions& options);
 
 /// Non-throwing WKT parser behind parse_wkt(). On failure returns false with `error` set; `declared` is the
 /// geometry type named by the keyword when it was recognised (also on failure).

@@ -629,6 +629,12 @@ class GeoJsonReader final : public FormatReader {
   GeoJsonReader(Source& src, const ReaderOptions& options)
       : src_(src), options_(options), problems_(problems) {}
 
+  std::string declared_crs() override {
+    if (state_ == State::start) start();
+    if (state_ == State::members) read_members();
+    return crs_;
+  }
+
   std::optional<RawFeature> next_raw() override {
     if (state_ == State::start) start();
     if (state_ == State::members) read_members();
@@ -705,6 +711,7 @@ class GeoJsonReader final : public FormatReader {
           // reported when the object is parsed as a whole
         }
       }
+      if (key == "crs") crs_ = named_crs(value);
       if (key == "features" && (!type_ || *type_ == "FeatureCollection") && !streamed_)
         container_error(src_, "\"features\" is not an array (RFC 7946 section 3.3)");
       members_.emplace_back(key_text, std::move(value));
@@ -712,6 +719,20 @@ class GeoJsonReader final : public FormatReader {
       after_member();
       if (state_ != State::members) return;
     }
+  }
+
+  /// The CRS a top-level "crs" member names: {"type": "name", "properties": {"name": "urn:ogc:def:crs:..."}}
+  /// (GeoJSON 2008 specification, section 3.1.1); a "link" CRS (section 3.1.2) or anything else names none here.
+  static std::string named_crs(const std::string& value) {
+    try {
+      const auto j = json::parse(value);
+      if (j.is_object() && j.value("type", "") == "name" && j.contains("properties") &&
+          j["properties"].is_object() && j["properties"].contains("name") && j["properties"]["name"].is_string())
+        return j["properties"]["name"].get<std::string>();
+    } catch (const json::exception&) {
+      // a malformed member is no CRS; the features are still read
+    }
+    return {};
   }
 
   void after_member() {
@@ -892,6 +913,7 @@ class GeoJsonReader final : public FormatReader {
   const ReaderOptions& options_;
   State state_ = State::start;
   std::optional<std::string> type_;
+  std::string crs_;  // the top-level "crs" member's name (2008 GeoJSON), empty when none
   std::vector<std::pair<std::string, std::string>> members_;
   std::optional<RawFeature> single_;
   std::vector<InputProblem>& problems_;

@@ -22,11 +22,11 @@
 #include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 #include "support.hpp"
+#include "test_files.hpp"
 
 #ifdef GRIDTRUTH_WITH_GDAL
 #include <gdal.h>
 #include <ogr_srs_api.h>
-#include "test_files.hpp"
 #endif
 
 namespace {

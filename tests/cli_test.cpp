@@ -1062,3 +1062,25 @@ TEST_F(CliTest, DegenerateTargetCrsIsRefused) {
     EXPECT_THAT(r.err, HasSubstr("degenerate")) << crs;
   }
 }
+
+TEST_F(CliTest, AreaOfUseMarginIsAnOption) {
+  // EPSG:32615's area of use is "Between 96°W and 90°W, northern hemisphere between equator and 84°N" (the EPSG
+  // Geodetic Parameter Dataset, as PROJ's database holds it). A square near 110°W lies 14° beyond it; the closing
+  // vertex repeats the first, so 4 distinct vertices.
+  const std::string far_square =
+      R"({"type":"Polygon","coordinates":[[[-110.0,44.10],[-109.975,44.10],[-109.975,44.1135],[-110.0,44.1135],[-110.0,44.10]]]})";
+  const std::string input = collection({feature("far", far_square)});
+  const CliRun standard = audit_text("f.geojson", input, {"--crs", "EPSG:32615"});
+  EXPECT_EQ(standard.cell(0, "status"), "unmeasurable");
+  EXPECT_THAT(standard.cell(0, "message"), HasSubstr("more than the margin of 5"));
+  for (const char* margin : {"20", "off"}) {
+    SCOPED_TRACE(margin);
+    const CliRun wide = audit_text("f.geojson", input, {"--crs", "EPSG:32615", "--area-of-use-margin", margin});
+    EXPECT_EQ(wide.cell(0, "status"), "ok");
+    EXPECT_THAT(wide.cell(0, "message"), StartsWith("warning: 4 of 4 vertices lie outside the area of use"));
+  }
+  expect_unusable(audit_text("f.geojson", input, {"--crs", "EPSG:32615", "--area-of-use-margin", "-1"}),
+                  "--area-of-use-margin");
+  expect_unusable(audit_text("f.geojson", input, {"--crs", "EPSG:32615", "--area-of-use-margin", "wide"}),
+                  "--area-of-use-margin");
+}

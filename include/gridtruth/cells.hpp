@@ -162,4 +162,24 @@ class ClassAreaAccumulator {
   std::vector<Sum> sums_;  // indexed by code
 };
 
+/// What a class raster file says about itself: its grid (CRS, geotransform, size) and band 1's nodata code, if any.
+struct ClassRasterHeader {
+  GridSpec grid;                        ///< the file's CRS ("EPSG:n" when it names one, else WKT2), geotransform, size
+  std::optional<std::uint32_t> nodata;  ///< band 1's nodata value when it is a whole number in [0, 65535]
+};
+
+/// True when this build reads rasters and vector data through GDAL (GRIDTRUTH_WITH_GDAL); the functions below
+/// then load GDAL on first use.
+bool built_with_gdal() noexcept;
+
+/// Opens any raster GDAL reads (GeoTIFF, ASCII grid, ...). A rotated geotransform is refused. Throws Error(io)
+/// when GDAL cannot open the file (or this build has no GDAL), Error(parse) when it has no georeferencing (give
+/// the grid yourself then) or a rotated geotransform. An empty grid.crs means the file names no CRS.
+ClassRasterHeader read_class_raster_header(const std::string& path);
+
+/// Streams band 1 of a raster GDAL reads, in strips of whole rows, into `acc`. The band must hold whole numbers
+/// in [0, 65535] (Byte, UInt16, or wider integer types whose values fit); any other value is Error(parse) naming
+/// the row. The raster's size must equal the grid's (Error(invalid_argument) otherwise). Error(io) as above.
+void add_class_raster(const std::string& path, const GridSpec& grid, ClassAreaAccumulator& acc);
+
 }  // namespace gridtruth

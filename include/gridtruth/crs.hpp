@@ -63,4 +63,10 @@ CrsFileAccess crs_file_access() noexcept;
 /// Thread-safe: each call uses its own PROJ context.
 CrsInfo describe_crs(const std::string& definition);
 
+/// True when two CRS definitions (any form describe_crs() takes) describe the same CRS, axis order of geographic
+/// CRSs aside (PROJ's proj_is_equivalent_to with PJ_COMP_EQUIVALENT_EXCEPT_AXIS_ORDER_GEOGCRS): "EPSG:26915" and
+/// the WKT of a shapefile's .prj for NAD83 / UTM zone 15N are the same; names and identifiers do not count.
+/// Throws Error(unknown_crs) as describe_crs() does. Thread-safe.
+bool same_crs(const std::string& a, const std::string& b);
+
 }  // namespace gridtruth

@@ -33,11 +33,12 @@
 namespace gridtruth {
 
 /// Input formats. `automatic` sniffs the first bytes (see sniff_format()).
-enum class InputFormat { automatic, geojson, ndjson, csv };
+enum class InputFormat { automatic, geojson, ndjson, csv, gdal };
 
-/// "auto", "geojson", "ndjson", "csv".
+/// "auto", "geojson", "ndjson", "csv", "gdal" (any vector data source GDAL/OGR opens: Shapefile, GeoPackage,
+/// FlatGeobuf, OpenFileGDB, GML, KML, ...; needs a build with GDAL, see built_with_gdal() in cells.hpp).
 std::string_view to_string(InputFormat format) noexcept;
-/// Parses the names of to_string() (case-insensitive; "geojsonseq" and "jsonl" also mean ndjson).
+/// Parses the names of to_string() (case-insensitive; "geojsonseq" and "jsonl" also mean ndjson, "ogr" gdal).
 /// Throws Error(invalid_argument) for any other name.
 InputFormat parse_input_format(std::string_view name);
 
@@ -54,6 +55,9 @@ struct ReaderOptions {
   /// GeoJSON property or CSV column holding each feature's ellipsoidal height in metres; empty: none. A feature
   /// whose height is missing, null, not a number or not finite is read with `error` set (it becomes invalid).
   std::string height_field;
+  /// The layer to read from a GDAL data source with several (a GeoPackage, a file geodatabase); empty: the only
+  /// layer (a source with several and no name given is Error(invalid_argument) listing them).
+  std::string layer;
 };
 
 /// One feature as read.
@@ -110,7 +114,13 @@ class FeatureReader {
   /// thread, and a tied stream would flush its tie (std::cin flushes std::cout) from there while the caller writes.
   explicit FeatureReader(std::istream& in, ReaderOptions options = {});
   /// Opens `path` ("-" reads standard input from file descriptor 0 directly, not through std::cin, so nothing is
-  /// flushed or shared with std::cout). Throws Error(io) when the file cannot be opened.
+  /// flushed or shared with std::cout). With format `automatic`, a directory, a file whose first bytes or
+  /// extension say GeoPackage/SQLite, Shapefile, FlatGeobuf, GML, KML, GPX, ... or a GDAL data source name
+  /// ("/vsizip/...", "PG:...") is read through GDAL (format `gdal`): one layer (ReaderOptions::layer), feature by
+  /// feature, the FID as id unless id_field names an attribute, the attributes as properties; a geometry OGR gives
+  /// is read by parse_wkt's rules. Throws Error(io) when the file cannot be opened (naming GDAL's reason, or that
+  /// this build has no GDAL and which format the file looks like), Error(invalid_argument) for a missing or
+  /// ambiguous layer.
   explicit FeatureReader(const std::string& path, ReaderOptions options = {});
   ~FeatureReader();
   /// Moves; the moved-from reader may only be destroyed or assigned to.
@@ -140,6 +150,12 @@ class FeatureReader {
 
   /// The format in use (sniffed on the first call to next() when `automatic`; `automatic` until then).
   InputFormat format() const noexcept;
+  /// The CRS the input names for itself, as a definition PROJ accepts: a GDAL layer's spatial reference ("EPSG:n"
+  /// when it names an EPSG code, else its WKT2; a shapefile's .prj), or a GeoJSON document's "crs" member of type
+  /// "name" (the 2008 GeoJSON specification, section 3.1; RFC 7946 dropped it but converters still write it),
+  /// e.g. "urn:ogc:def:crs:EPSG::26915". Empty when the input names none. May read ahead to the first feature
+  /// (a "crs" member after the "features" array is not seen); throws as next() does.
+  std::string declared_crs();
   /// Bytes consumed so far (for progress reports).
   std::uint64_t bytes_read() const noexcept;
 

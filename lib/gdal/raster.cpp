@@ -1,72 +1,23 @@
-// gridtruth cells — class rasters read through GDAL.
-//
-// GDAL is loaded when a raster is first opened (dlopen), not linked: libgdal pulls in about a hundred shared
-// libraries whose loading cost every run of every command about 0.1 s. Its C API is resolved by name into a table
-// of pointers typed after GDAL's own headers. GRIDTRUTH_GDAL_SONAME names the library found at build time.
-#include "raster_gdal.hpp"
-
-#include <dlfcn.h>
-#include <gdal.h>
-#include <cpl_conv.h>
-#include <cpl_error.h>
-#include <ogr_srs_api.h>
-
+// gridtruth — class rasters read through GDAL (built only with GRIDTRUTH_WITH_GDAL; GDAL loaded on first use).
 #include <algorithm>
 #include <cmath>
-#include <memory>
 #include <vector>
 
+#include "gdal/gdal_api.hpp"
+#include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 
-#ifndef GRIDTRUTH_GDAL_SONAME
-#define GRIDTRUTH_GDAL_SONAME "libgdal.so"
-#endif
+namespace gridtruth {
 
-namespace gridtruth::cli {
+bool built_with_gdal() noexcept { return true; }
 
 namespace {
 
-#define GRIDTRUTH_GDAL_FUNCTIONS(X)                                                                              \
-  X(GDALAllRegister) X(CPLPushErrorHandler) X(CPLQuietErrorHandler) X(CPLPopErrorHandler) X(GDALOpen)          \
-  X(GDALClose) X(GDALGetRasterCount) X(GDALGetGeoTransform) X(GDALGetRasterXSize) X(GDALGetRasterYSize)         \
-  X(GDALGetSpatialRef) X(OSRGetAuthorityName) X(OSRGetAuthorityCode) X(OSRExportToWktEx) X(VSIFree)            \
-  X(GDALGetRasterNoDataValue) X(GDALGetRasterBand) X(GDALGetRasterDataType) X(GDALDataTypeIsFloating)          \
-  X(GDALDataTypeIsComplex) X(GDALGetDataTypeName) X(GDALGetBlockSize) X(GDALRasterIO)
-
-/// GDAL's C functions, resolved on first use. Throws Error(io) when the library or a function is missing.
-struct Gdal {
-#define GRIDTRUTH_GDAL_MEMBER(name) decltype(&::name) name = nullptr;
-  GRIDTRUTH_GDAL_FUNCTIONS(GRIDTRUTH_GDAL_MEMBER)
-#undef GRIDTRUTH_GDAL_MEMBER
-
-  static const Gdal& get() {
-    static const Gdal gdal = load();  // thread-safe initialisation; the library stays loaded
-    return gdal;
-  }
-
- private:
-  static Gdal load() {
-    void* library = dlopen(GRIDTRUTH_GDAL_SONAME, RTLD_NOW | RTLD_LOCAL);
-    if (!library)
-      throw Error(ErrorCode::io, std::string("cannot load GDAL (") + GRIDTRUTH_GDAL_SONAME + "): " + dlerror());
-    Gdal g;
-#define GRIDTRUTH_GDAL_RESOLVE(name)                                                                    \
-  g.name = reinterpret_cast<decltype(&::name)>(dlsym(library, #name));                                  \
-  if (!g.name) throw Error(ErrorCode::io, std::string("GDAL (") + GRIDTRUTH_GDAL_SONAME + ") lacks " #name);
-    GRIDTRUTH_GDAL_FUNCTIONS(GRIDTRUTH_GDAL_RESOLVE)
-#undef GRIDTRUTH_GDAL_RESOLVE
-    g.GDALAllRegister();
-    return g;
-  }
-};
-
-struct DatasetCloser {
-  void operator()(void* ds) const noexcept { Gdal::get().GDALClose(ds); }
-};
-using Dataset = std::unique_ptr<void, DatasetCloser>;
+using detail::GdalApi;
+using Dataset = detail::GdalDataset;
 
 Dataset open_raster(const std::string& path) {
-  const Gdal& gdal = Gdal::get();
+  const GdalApi& gdal = GdalApi::get();
   gdal.CPLPushErrorHandler(gdal.CPLQuietErrorHandler);
   Dataset ds(gdal.GDALOpen(path.c_str(), GA_ReadOnly));
   gdal.CPLPopErrorHandler();
@@ -77,10 +28,10 @@ Dataset open_raster(const std::string& path) {
 
 }  // namespace
 
-RasterHeader read_raster_header(const std::string& path) {
+ClassRasterHeader read_class_raster_header(const std::string& path) {
   const Dataset ds = open_raster(path);
-  const Gdal& gdal = Gdal::get();
-  RasterHeader h;
+  const GdalApi& gdal = GdalApi::get();
+  ClassRasterHeader h;
   double gt[6];
   if (gdal.GDALGetGeoTransform(ds.get(), gt) != CE_None)
     throw Error(ErrorCode::parse, path + " has no geotransform; give --origin and --pixel");
@@ -91,19 +42,7 @@ RasterHeader read_raster_header(const std::string& path) {
   h.grid.pixel_y = gt[5];
   h.grid.cols = static_cast<std::size_t>(gdal.GDALGetRasterXSize(ds.get()));
   h.grid.rows = static_cast<std::size_t>(gdal.GDALGetRasterYSize(ds.get()));
-  OGRSpatialReferenceH srs = gdal.GDALGetSpatialRef(ds.get());
-  if (srs) {
-    const char* authority = gdal.OSRGetAuthorityName(srs, nullptr);
-    const char* code = gdal.OSRGetAuthorityCode(srs, nullptr);
-    if (authority && code && std::string(authority) == "EPSG") {
-      h.grid.crs = std::string("EPSG:") + code;
-    } else {
-      char* wkt = nullptr;
-      const char* options[] = {"FORMAT=WKT2_2019", nullptr};
-      if (gdal.OSRExportToWktEx(srs, &wkt, options) == OGRERR_NONE && wkt) h.grid.crs = wkt;
-      gdal.VSIFree(wkt);  // CPLFree
-    }
-  }
+  h.grid.crs = detail::crs_definition(gdal.GDALGetSpatialRef(ds.get()));
   int has_nodata = 0;
   const double nodata = gdal.GDALGetRasterNoDataValue(gdal.GDALGetRasterBand(ds.get(), 1), &has_nodata);
   if (has_nodata && nodata >= 0 && nodata <= 65535 && nodata == std::floor(nodata))
@@ -111,9 +50,9 @@ RasterHeader read_raster_header(const std::string& path) {
   return h;
 }
 
-void add_raster_classes(const std::string& path, const GridSpec& grid, ClassAreaAccumulator& acc) {
+void add_class_raster(const std::string& path, const GridSpec& grid, ClassAreaAccumulator& acc) {
   const Dataset ds = open_raster(path);
-  const Gdal& gdal = Gdal::get();
+  const GdalApi& gdal = GdalApi::get();
   const auto cols = static_cast<std::size_t>(gdal.GDALGetRasterXSize(ds.get()));
   const auto rows = static_cast<std::size_t>(gdal.GDALGetRasterYSize(ds.get()));
   if (cols != grid.cols || rows != grid.rows)
@@ -149,4 +88,4 @@ void add_raster_classes(const std::string& path, const GridSpec& grid, ClassArea
   }
 }
 
-}  // namespace gridtruth::cli
+}  // namespace gridtruth
