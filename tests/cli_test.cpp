@@ -21,6 +21,7 @@
 #include "test_files.hpp"
 
 namespace {
+using gridtruth::test_files::ScratchDir;
 using gridtruth::test_files::slurp;
 using gridtruth::test_files::spit;
 using gridtruth::test_files::shell_quote;
@@ -89,15 +90,10 @@ class CliTest : public ::testing::Test {
  protected:
   void SetUp() override {
     if (cli.empty()) GTEST_SKIP() << "the gridtruth executable was not built";
-    char tmpl[] = "/tmp/gridtruth-cli-XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    dir_ = tmpl;
-  }
-  void TearDown() override {
-    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
+    ASSERT_FALSE(dir_.empty());
   }
 
-  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+  std::string path(const std::string& name) const { return scratch_.path(name); }
 
   /// Runs `gridtruth ARGS` (each already a separate argument), with optional standard input.
   CliRun run(const std::vector<std::string>& args, const std::string* stdin_text = nullptr) {
@@ -128,7 +124,8 @@ class CliTest : public ::testing::Test {
     return audit(args);
   }
 
-  std::string dir_;
+  ScratchDir scratch_{"cli"};
+  const std::string& dir_ = scratch_.dir();
 };
 
 /// One line on standard error, starting "gridtruth: ", nothing on standard output: the exit-2 contract.

@@ -83,14 +83,9 @@ class GdalIoTest : public ::testing::Test {
  protected:
   void SetUp() override {
     if (cli.empty()) GTEST_SKIP() << "the gridtruth executable was not built";
-    char tmpl[] = "/tmp/gridtruth-gdal-XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    dir_ = tmpl;
+    ASSERT_FALSE(scratch_.dir().empty());
   }
-  void TearDown() override {
-    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
-  }
-  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+  std::string path(const std::string& name) const { return scratch_.path(name); }
 
   CliRun audit(const std::vector<std::string>& args) {
     std::string cmd = shell_quote(cli) + " audit";
@@ -107,7 +102,7 @@ class GdalIoTest : public ::testing::Test {
     return r;
   }
 
-  std::string dir_;
+  ScratchDir scratch_{"gdal"};
 };
 
 // Parcel-sized features inside UTM zone 15N (invented, common practice), one of them a hole-bearing polygon, one

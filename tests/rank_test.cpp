@@ -22,6 +22,7 @@
 
 namespace {
 using gridtruth::test_files::parse_csv;
+using gridtruth::test_files::ScratchDir;
 using gridtruth::test_files::slurp;
 
 using namespace gridtruth;
@@ -344,9 +345,7 @@ class RankCli : public ::testing::Test {
  protected:
   void SetUp() override {
     if (std::ifstream(cli_path()).fail()) GTEST_SKIP() << "the gridtruth executable is not built: " << cli_path();
-    char tmpl[] = "/tmp/gridtruth_rank_XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    dir_ = tmpl;
+    ASSERT_FALSE(dir_.empty());
     std::ofstream f(dir_ + "/in.csv");
     f << "id,wkt\n";
     for (int i = 0; i < 4; ++i) {
@@ -355,10 +354,8 @@ class RankCli : public ::testing::Test {
         << " 41))\"\n";
     }
   }
-  void TearDown() override {
-    if (!dir_.empty()) std::system(("rm -rf " + dir_).c_str());
-  }
-  std::string dir_;
+  ScratchDir scratch_{"rank"};
+  const std::string& dir_ = scratch_.dir();
 };
 
 TEST_F(RankCli, WritesTheRankingCsvAndExitsZero) {

@@ -29,6 +29,7 @@
 
 namespace {
 using gridtruth::test_files::parse_csv;
+using gridtruth::test_files::ScratchDir;
 using gridtruth::test_files::slurp;
 using gridtruth::test_files::spit;
 using gridtruth::test_files::shell_quote;
@@ -146,15 +147,8 @@ Geometry square(double lon, double lat, double side_deg) {
 
 class ReportTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    char tmpl[] = "/tmp/gridtruth-report-XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    dir_ = tmpl;
-  }
-  void TearDown() override {
-    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
-  }
-  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+  void SetUp() override { ASSERT_FALSE(dir_.empty()); }
+  std::string path(const std::string& name) const { return scratch_.path(name); }
 
   /// UTM zone 15N (central meridian 93° W) with an area tolerance.
   static AuditOptions utm15_options() {
@@ -178,7 +172,8 @@ class ReportTest : public ::testing::Test {
     report.add("monument", point, auditor.audit(point));
   }
 
-  std::string dir_;
+  ScratchDir scratch_{"report"};
+  const std::string& dir_ = scratch_.dir();
 };
 
 // ---------------------------------------------------------------------------------------------------------------

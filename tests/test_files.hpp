@@ -3,6 +3,9 @@
 
 #include <algorithm>
 #include <filesystem>
+#include <stdlib.h>
+
+#include <cstdlib>
 #include <fstream>
 #include <sstream>
 #include <string>
@@ -49,6 +52,26 @@ inline std::string shell_quote(const std::string& s) {
   }
   return q + "'";
 }
+
+/// A fresh directory under /tmp for one test (mkdtemp), removed with everything in it when the object goes.
+/// dir() is empty when it could not be made.
+class ScratchDir {
+ public:
+  explicit ScratchDir(const std::string& tag) {
+    std::string name = "/tmp/gridtruth-" + tag + "-XXXXXX";
+    if (mkdtemp(name.data()) != nullptr) dir_ = name;
+  }
+  ~ScratchDir() {
+    if (!dir_.empty()) std::system(("rm -rf " + shell_quote(dir_)).c_str());
+  }
+  ScratchDir(const ScratchDir&) = delete;
+  ScratchDir& operator=(const ScratchDir&) = delete;
+  const std::string& dir() const { return dir_; }
+  std::string path(const std::string& name) const { return dir_ + "/" + name; }
+
+ private:
+  std::string dir_;
+};
 
 /// An RFC 4180 parser written for the tests (independent of the library's reader): records of fields. A CRLF or
 /// LF ends a record (section 2.1); quoted fields may hold commas, quotes (doubled) and line breaks.
