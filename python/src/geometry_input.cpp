@@ -6,6 +6,7 @@
 #include <cstdint>
 #include <cstring>
 #include <string>
+#include <system_error>
 #include <thread>
 #include <type_traits>
 
@@ -455,8 +456,13 @@ std::vector<InputFeature> features_of_objects(const py::iterable& objects, unsig
   std::vector<std::optional<Geometry>> read(pointers.size());
   {
     py::gil_scoped_release release;
-    const auto read_range = [&](std::size_t begin, std::size_t end) {
-      for (std::size_t k = begin; k < end; ++k) read[k] = geos_geometry(pointers[k]);
+    const auto read_range = [&](std::size_t begin, std::size_t end) noexcept {
+      for (std::size_t k = begin; k < end; ++k) {
+        try {
+          read[k] = geos_geometry(pointers[k]);
+        } catch (...) {  // std::bad_alloc: left to the WKB route below, which reports it with the GIL held
+        }
+      }
     };
     constexpr std::size_t per_thread_min = 4096;  // below this a thread costs more than it saves
     unsigned workers = threads != 0 ? threads : std::max(1U, std::thread::hardware_concurrency());
@@ -464,7 +470,12 @@ std::vector<InputFeature> features_of_objects(const py::iterable& objects, unsig
     std::vector<std::thread> pool;
     const std::size_t step = (pointers.size() + workers - 1) / workers;
     for (unsigned w = 1; w < workers; ++w) {
-      pool.emplace_back(read_range, std::min(pointers.size(), w * step), std::min(pointers.size(), (w + 1) * step));
+      const std::size_t begin = std::min(pointers.size(), w * step), end = std::min(pointers.size(), (w + 1) * step);
+      try {
+        pool.emplace_back(read_range, begin, end);
+      } catch (const std::system_error&) {  // no thread to be had: read that range here
+        read_range(begin, end);
+      }
     }
     read_range(0, std::min(pointers.size(), step));
     for (std::thread& t : pool) t.join();
