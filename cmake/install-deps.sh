@@ -12,7 +12,7 @@ packages=(
   chromium                 # tests: ReportCliTest.HtmlRendersInHeadlessChromium renders the HTML report
   clang libclang-rt-14-dev
   python3-dev pybind11-dev python3-pybind11 python3-pytest python3-numpy python3-pandas python3-shapely
-  python3-geopandas python3-pyproj python3-geographiclib python3-dask python3-distributed
+  libgeos-dev python3-geopandas python3-pyproj python3-geographiclib python3-dask python3-distributed
 )
 missing=()
 for p in "${packages[@]}"; do

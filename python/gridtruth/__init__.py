@@ -82,7 +82,9 @@ class Auditor(_core.Auditor):
         core), with the GIL released, each worker with a clone of this auditor.
 
         Geometries are shapely objects, WKB bytes, WKT text or GeoJSON-like mappings; None or anything unreadable
-        becomes an ``invalid`` row with the reason. ``heights``: one ellipsoidal height in metres per geometry (None
+        becomes an ``invalid`` row with the reason. Shapely 1.x geometries are read straight from GEOS with the GIL
+        released (when shapely uses the libgeos_c the module links; else through their WKB): do not change them in
+        place from another thread meanwhile. ``heights``: one ellipsoidal height in metres per geometry (None
         or NaN make that feature invalid). ``ids``: the ``id`` column (default: the 1-based position as text).
 
         Returns a pandas DataFrame with the columns of result_columns(): one row per geometry, in order. Text cells

@@ -1,12 +1,20 @@
 // gridtruth Python binding — Python geometry objects to gridtruth::Geometry.
 #include "geometry_input.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <cstring>
 #include <string>
+#include <system_error>
+#include <thread>
+#include <type_traits>
 
 #include "gridtruth/error.hpp"
+
+#ifdef GRIDTRUTH_PYTHON_GEOS
+#include <geos_c.h>
+#endif
 
 namespace py = pybind11;
 
@@ -236,11 +244,169 @@ Geometry wkb_geometry(std::string_view bytes) {
   return g;
 }
 
+#ifdef GRIDTRUTH_PYTHON_GEOS
+/// One GEOS context per thread (GEOS C API, reentrant _r functions), finished when the thread ends.
+GEOSContextHandle_t geos_context() {
+  struct Context {
+    GEOSContextHandle_t handle = GEOS_init_r();
+    ~Context() { GEOS_finish_r(handle); }
+  };
+  thread_local Context context;
+  return context.handle;
+}
+
+static_assert(sizeof(Coord) == 2 * sizeof(double) && std::is_standard_layout_v<Coord>,
+              "GEOSCoordSeq_copyToBuffer_r writes x, y pairs into Path's storage");
+
+/// The x, y of a point, line string or ring; false on a GEOS error.
+bool read_path(GEOSContextHandle_t h, const GEOSGeometry* g, Path& path) {
+  const GEOSCoordSequence* s = GEOSGeom_getCoordSeq_r(h, g);
+  unsigned int n = 0;
+  if (!s || !GEOSCoordSeq_getSize_r(h, s, &n)) return false;
+  path.resize(n);
+  return n == 0 || GEOSCoordSeq_copyToBuffer_r(h, s, &path.front().x, 0, 0);
+}
+
+/// A point as parse_wkb() reads GEOS's WKB of it: an empty point (NaN, NaN) adds nothing.
+bool read_point(GEOSContextHandle_t h, const GEOSGeometry* g, std::vector<Coord>& points) {
+  if (GEOSisEmpty_r(h, g) == 1) return true;
+  Path p;
+  if (!read_path(h, g, p) || p.size() != 1) return false;
+  if (!(std::isnan(p[0].x) && std::isnan(p[0].y))) points.push_back(p[0]);
+  return true;
+}
+
+/// A polygon as parse_wkb() reads GEOS's WKB of it: an empty polygon has no ring.
+bool read_polygon(GEOSContextHandle_t h, const GEOSGeometry* g, Polygon& polygon) {
+  const char empty = GEOSisEmpty_r(h, g);
+  if (empty == 1) return true;
+  const GEOSGeometry* outer = GEOSGetExteriorRing_r(h, g);
+  const int holes = GEOSGetNumInteriorRings_r(h, g);
+  if (empty != 0 || !outer || holes < 0 || !read_path(h, outer, polygon.outer)) return false;
+  polygon.holes.resize(static_cast<std::size_t>(holes));
+  for (int k = 0; k < holes; ++k) {
+    const GEOSGeometry* ring = GEOSGetInteriorRingN_r(h, g, k);
+    if (!ring || !read_path(h, ring, polygon.holes[static_cast<std::size_t>(k)])) return false;
+  }
+  return true;
+}
+
+bool read_part(GEOSContextHandle_t h, const GEOSGeometry* part, int type_id, Geometry& g) {
+  switch (type_id) {
+    case GEOS_POINT: return read_point(h, part, g.points);
+    case GEOS_LINESTRING: case GEOS_LINEARRING: return read_path(h, part, g.lines.emplace_back());
+    case GEOS_POLYGON: return read_polygon(h, part, g.polygons.emplace_back());
+    default: return false;
+  }
+}
+#endif
+
+/// What shapely_geos_linked() found, once shapely is imported (decided with the GIL held, never changed after).
+struct ShapelyLink {
+  bool decided = false;
+  bool linked = false;
+  PyObject* base_geometry = nullptr;  ///< shapely.geometry.base.BaseGeometry (a strong reference, kept for good)
+};
+
+ShapelyLink& shapely_link() {
+  static ShapelyLink link;
+#ifdef GRIDTRUTH_PYTHON_GEOS
+  if (link.decided) return link;
+  PyObject* base = PyDict_GetItemString(PyImport_GetModuleDict(), "shapely.geometry.base");  // borrowed
+  if (!base) return link;  // not imported yet: no object can be a shapely geometry; decide later
+  link.decided = true;
+  try {
+    const std::string version = py::str(py::module_::import("shapely").attr("__version__"));
+    if (version.rfind("1.", 0) != 0) return link;
+    const py::module_ ctypes = py::module_::import("ctypes");
+    const py::object dll = py::module_::import("shapely.geos").attr("lgeos").attr("_lgeos");
+    const py::object address = ctypes.attr("cast")(dll.attr("GEOSversion"), ctypes.attr("c_void_p")).attr("value");
+    if (address.is_none() ||
+        address.cast<std::uintptr_t>() != reinterpret_cast<std::uintptr_t>(&GEOSversion)) {
+      return link;
+    }
+    link.base_geometry = py::object(py::reinterpret_borrow<py::object>(base).attr("BaseGeometry")).release().ptr();
+    link.linked = true;
+  } catch (const py::error_already_set&) {
+    // anything unexpected in shapely's layout: not linked, every geometry goes through its WKB
+  } catch (const py::cast_error&) {
+  }
+#endif
+  return link;
+}
+
 }  // namespace
 
 Geometry parse_wkb(std::string_view bytes) { return wkb_geometry(bytes); }
 
+bool shapely_geos_linked() { return shapely_link().linked; }
+
+const void* shapely_geos_geometry(py::handle object) {
+  const ShapelyLink& link = shapely_link();
+  if (!link.linked) return nullptr;
+  const int is_geometry = PyObject_IsInstance(object.ptr(), link.base_geometry);
+  if (is_geometry != 1) {
+    if (is_geometry < 0) PyErr_Clear();
+    return nullptr;
+  }
+  PyObject* pointer = PyObject_GetAttrString(object.ptr(), "_geom");
+  if (!pointer) {
+    PyErr_Clear();
+    return nullptr;
+  }
+  const void* g = PyLong_Check(pointer) ? PyLong_AsVoidPtr(pointer) : nullptr;
+  if (PyErr_Occurred()) PyErr_Clear();
+  Py_DECREF(pointer);
+  return g;
+}
+
+std::optional<Geometry> geos_geometry([[maybe_unused]] const void* geos_geometry) {
+#ifdef GRIDTRUTH_PYTHON_GEOS
+  const GEOSContextHandle_t h = geos_context();
+  const auto* g = static_cast<const GEOSGeometry*>(geos_geometry);
+  if (!g || GEOSisEmpty_r(h, g) != 0) return std::nullopt;
+  const int type_id = GEOSGeomTypeId_r(h, g);
+  Geometry out;
+  switch (type_id) {
+    case GEOS_POINT: out.type = GeometryType::point; break;
+    case GEOS_LINESTRING: case GEOS_LINEARRING: out.type = GeometryType::line_string; break;
+    case GEOS_POLYGON: out.type = GeometryType::polygon; break;
+    case GEOS_MULTIPOINT: out.type = GeometryType::multi_point; break;
+    case GEOS_MULTILINESTRING: out.type = GeometryType::multi_line_string; break;
+    case GEOS_MULTIPOLYGON: out.type = GeometryType::multi_polygon; break;
+    default: return std::nullopt;  // GeometryCollection: the WKB route names it
+  }
+  if (type_id < GEOS_MULTIPOINT) {
+    if (!read_part(h, g, type_id, out)) return std::nullopt;
+    return out;
+  }
+  const int parts = GEOSGetNumGeometries_r(h, g);
+  if (parts < 0) return std::nullopt;
+  for (int k = 0; k < parts; ++k) {
+    const GEOSGeometry* part = GEOSGetGeometryN_r(h, g, k);
+    if (!part || !read_part(h, part, GEOSGeomTypeId_r(h, part), out)) return std::nullopt;
+  }
+  return out;
+#else
+  return std::nullopt;
+#endif
+}
+
+namespace {
+
+InputFeature feature_of_geometry(Geometry g) {
+  InputFeature f;
+  f.declared_type = g.type;
+  f.geometry = std::move(g);
+  return f;
+}
+
+}  // namespace
+
 InputFeature feature_of(py::handle object) {
+  if (const void* g = shapely_geos_geometry(object)) {
+    if (std::optional<Geometry> read = geos_geometry(g)) return feature_of_geometry(std::move(*read));
+  }
   InputFeature f;
   if (object.is_none()) return f;  // unread_result(): "the feature has no geometry"
   try {
@@ -268,6 +434,56 @@ InputFeature feature_of(py::handle object) {
   }
   if (f.geometry) f.declared_type = f.geometry->type;
   return f;
+}
+
+std::vector<InputFeature> features_of_objects(const py::iterable& objects, unsigned threads) {
+  std::vector<InputFeature> features;
+  std::vector<py::object> held;        // the shapely geometries read below without the GIL, kept alive meanwhile
+  std::vector<std::size_t> positions;  // their 0-based positions in `features`
+  std::vector<const void*> pointers;   // their GEOS geometries
+  if (py::hasattr(objects, "__len__")) features.reserve(py::len(objects));
+  for (py::handle object : objects) {
+    if (const void* g = shapely_geos_geometry(object)) {
+      held.push_back(py::reinterpret_borrow<py::object>(object));
+      positions.push_back(features.size());
+      pointers.push_back(g);
+      features.emplace_back();
+    } else {
+      features.push_back(feature_of(object));
+    }
+  }
+  if (pointers.empty()) return features;
+  std::vector<std::optional<Geometry>> read(pointers.size());
+  {
+    py::gil_scoped_release release;
+    const auto read_range = [&](std::size_t begin, std::size_t end) noexcept {
+      for (std::size_t k = begin; k < end; ++k) {
+        try {
+          read[k] = geos_geometry(pointers[k]);
+        } catch (...) {  // std::bad_alloc: left to the WKB route below, which reports it with the GIL held
+        }
+      }
+    };
+    constexpr std::size_t per_thread_min = 4096;  // below this a thread costs more than it saves
+    unsigned workers = threads != 0 ? threads : std::max(1U, std::thread::hardware_concurrency());
+    workers = static_cast<unsigned>(std::min<std::size_t>(workers, 1 + pointers.size() / per_thread_min));
+    std::vector<std::thread> pool;
+    const std::size_t step = (pointers.size() + workers - 1) / workers;
+    for (unsigned w = 1; w < workers; ++w) {
+      const std::size_t begin = std::min(pointers.size(), w * step), end = std::min(pointers.size(), (w + 1) * step);
+      try {
+        pool.emplace_back(read_range, begin, end);
+      } catch (const std::system_error&) {  // no thread to be had: read that range here
+        read_range(begin, end);
+      }
+    }
+    read_range(0, std::min(pointers.size(), step));
+    for (std::thread& t : pool) t.join();
+  }
+  for (std::size_t k = 0; k < pointers.size(); ++k) {
+    features[positions[k]] = read[k] ? feature_of_geometry(std::move(*read[k])) : feature_of(held[k]);
+  }
+  return features;
 }
 
 }  // namespace gridtruth::python

@@ -50,16 +50,12 @@ py::dict crs_dict(const CrsInfo& c) {
   return d;
 }
 
-/// The features of a Python sequence of geometries (and optional per-feature heights in metres and ids).
+/// The features of a Python sequence of geometries (and optional per-feature heights in metres and ids), shapely
+/// 1.x geometries read from GEOS on `threads` threads (0: every hardware thread).
 std::vector<InputFeature> features_of(const py::iterable& geometries, const py::object& heights,
-                                      const py::object& ids) {
-  std::vector<InputFeature> features;
-  if (py::hasattr(geometries, "__len__")) features.reserve(py::len(geometries));
-  for (py::handle g : geometries) {
-    features.push_back(python::feature_of(g));
-    InputFeature& f = features.back();
-    f.position = features.size();
-  }
+                                      const py::object& ids, unsigned threads) {
+  std::vector<InputFeature> features = python::features_of_objects(geometries, threads);
+  for (std::size_t k = 0; k < features.size(); ++k) features[k].position = k + 1;
   if (!ids.is_none()) {
     std::size_t k = 0;
     for (py::handle id : ids) {
@@ -159,9 +155,9 @@ struct RankInput {
   std::vector<double> heights_m;
 };
 
-RankInput rank_input(const py::iterable& geometries, const py::object& heights) {
+RankInput rank_input(const py::iterable& geometries, const py::object& heights, unsigned threads) {
   RankInput in;
-  for (InputFeature& f : features_of(geometries, heights, py::none())) {
+  for (InputFeature& f : features_of(geometries, heights, py::none(), threads)) {
     if (!f.geometry) continue;
     in.geometries.push_back(std::move(*f.geometry));
     if (f.height_m) in.heights_m.push_back(*f.height_m);
@@ -278,7 +274,7 @@ PYBIND11_MODULE(_core, m) {
           "_audit_table",
           [](const Auditor& a, const py::iterable& geometries, const py::object& heights, const py::object& ids,
              unsigned threads, std::size_t batch_features, bool combined_factor) {
-            const std::vector<InputFeature> features = features_of(geometries, heights, ids);
+            const std::vector<InputFeature> features = features_of(geometries, heights, ids, threads);
             std::vector<AuditResult> results;
             {
               py::gil_scoped_release release;
@@ -368,9 +364,12 @@ PYBIND11_MODULE(_core, m) {
     return py::make_tuple(std::string(to_string(g.type)), g.vertex_count());
   }, "Parses WKB; returns (geometry type, vertex count); raises gridtruth.Error for malformed WKB");
 
+  m.def("_shapely_geos_linked", &python::shapely_geos_linked,
+        "True when shapely 1.x geometries are read straight from GEOS (the libgeos_c this module links)");
+
   m.def("rank", [](const py::iterable& geometries, const py::object& heights, const py::dict& options) {
     const RankOptions o = rank_options(options);
-    RankInput in = rank_input(geometries, heights);
+    RankInput in = rank_input(geometries, heights, o.threads);
     RankReport report;
     {
       py::gil_scoped_release release;
@@ -389,7 +388,7 @@ PYBIND11_MODULE(_core, m) {
     if (options.contains("optimise_scale")) o.optimise_scale = options["optimise_scale"].cast<bool>();
     if (options.contains("compare_registry")) o.compare_registry = options["compare_registry"].cast<bool>();
     const ProjectionFamily f = parse_projection_family(family);
-    RankInput in = rank_input(geometries, heights);
+    RankInput in = rank_input(geometries, heights, o.rank.threads);
     TailorResult t;
     {
       py::gil_scoped_release release;
