@@ -15,6 +15,8 @@
 #include <vector>
 
 #include "gridtruth/audit.hpp"
+#include "gridtruth/io.hpp"
+#include <limits>
 #include "support.hpp"
 
 namespace gridtruth {
@@ -192,6 +194,50 @@ TEST(Bounds, HoldAgainstHigherPrecisionReferencesAndAreNotVacuous) {
   // cannot observe; its round-off part is what the long-double sums check (the assertions above).
   EXPECT_GT(d_length.counted + d_area.counted, 10);
   for (const Tightness* t : {&d_length, &d_area}) EXPECT_LE(t->worst, 1e4);
+}
+
+TEST(Bounds, DatumPartCarriesTheTransformationsStatedAccuracy) {
+  // WGS 84 → NAD83 / UTM 15N: PROJ picks "NAD83 to WGS 84 (1)" (EPSG:1188), accuracy 4 m in the EPSG dataset (from
+  // memory; read from PROJ here). Worst case, every vertex moved by ≤ σ: length ≤ 2σ per edge, area ≤ σ·P + nσ²
+  // (n ≥ π vertices here; the Steiner bound σ·P + πσ², common practice).
+  AuditOptions o = options_for("EPSG:26915", true, 1e-3);
+  const Auditor a(o);
+  ASSERT_TRUE(a.transform().accuracy_m.has_value());
+  const double sigma = *a.transform().accuracy_m;
+  EXPECT_GT(sigma, 0);
+  const Path ring = {{-93.0, 45.0}, {-92.99, 45.0}, {-92.99, 45.01}, {-93.0, 45.01}};
+  const AuditResult r = a.audit(Geometry::polygon(ring));
+  ASSERT_EQ(r.status, Status::ok) << r.message;
+  const double p = r.length->ellipsoid_source;
+  const double length_numeric = r.length->ellipsoid_source_bound + r.length->ellipsoid_target_bound;
+  EXPECT_NEAR(r.length->from_datum_bound - length_numeric, 2 * sigma * 4, 1e-9);
+  const double area_numeric = r.area->ellipsoid_source_bound + r.area->ellipsoid_target_bound;
+  EXPECT_NEAR(r.area->from_datum_bound - area_numeric, sigma * p + 4 * sigma * sigma, 1e-6);
+  EXPECT_GE(r.area->error_bound, sigma * p);  // the error carries it too
+  EXPECT_LT(r.area->from_edges_bound, 1);     // the grid's own parts do not
+  // The same datum: no datum term, only the numerical bounds.
+  const AuditResult same = Auditor(options_for("EPSG:32615", true, 1e-3)).audit(Geometry::polygon(ring));
+  EXPECT_LT(same.area->from_datum_bound, 1);
+}
+
+TEST(Bounds, ColumnsAfterEveryOtherOnlyWhenAsked) {
+  EXPECT_EQ(result_columns(false, true).size(), result_columns(false).size() + 14);
+  EXPECT_EQ(result_columns(true, true).size(), result_columns(true).size() + 14);
+  EXPECT_EQ(result_columns(true, true)[result_columns(true).size()].name, "true_length_bound_m");
+  EXPECT_EQ(result_columns(false, true).back().name, "area_from_height_bound_m2");
+  AuditResult r;
+  r.type = GeometryType::line_string;
+  Budget b;
+  b.reference_bound = 1.5e-9;
+  b.from_datum_bound = std::numeric_limits<double>::quiet_NaN();  // a ballpark: empty cell
+  r.length = b;
+  const ResultRow row = result_row("L", r, false, true);
+  const auto& columns = result_columns(false, true);
+  ASSERT_EQ(row.size, columns.size());
+  const std::size_t k = result_columns(false).size();
+  EXPECT_EQ(row.cells[k].number, 1.5e-9);
+  EXPECT_TRUE(std::isnan(row.cells[k + 5].number));  // length_from_datum_bound_m
+  EXPECT_TRUE(std::isnan(row.cells[k + 7].number));  // true_area_bound_m2: a line has no area
 }
 
 }  // namespace
