@@ -214,7 +214,7 @@ std::string AuditSummary::to_text(const Context& c) const {
     s << "  datum transformation: " << t.name;
     if (t.is_identity) {
     } else if (t.accuracy_m) s << " (stated accuracy " << fixed(*t.accuracy_m, 3) << " m)";
-    else s << " (accuracy unknown)";
+    else s << " (accuracy unknown: the datum part has no bound)";
     if (t.is_ballpark) s << " [ballpark: approximate only]";
     s << "\n";
     s << "  edges:        " << a.edges().to_string() << "\n";

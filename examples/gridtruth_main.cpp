@@ -66,6 +66,7 @@ struct AuditArgs {
   std::string format = "auto";
   unsigned threads = 0;
   bool repair = false;
+  bool bounds = false;
 };
 
 /// One line on standard error: the reason the run could not go on.
@@ -202,6 +203,7 @@ int run_audit(const AuditArgs& args) {
     }
     writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
+    writer->with_bounds(args.bounds);
     writer->write_header();
   };
 
@@ -397,6 +399,9 @@ int main(int argc, char** argv) {
   audit->add_option("--densify-tolerance", args.densify_tolerance_m,
                     "largest planar deviation of a densified edge from the true edge, metres")
       ->capture_default_str();
+  audit->add_flag("--bounds", args.bounds,
+                  "add a bound column after the others for R, G, the error and each budget part "
+                  "(*_bound_m, *_bound_m2: how far each printed figure may be from its exact value)");
   audit->add_flag("--repair", args.repair,
                   "make polygons with invalid topology (self-crossing rings, holes outside, overlapping parts, "
                   "spikes) valid by the even-odd rule and audit them; their message says so (default: invalid)");

@@ -45,6 +45,7 @@ namespace {
 
 using detail::Pj;
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+constexpr double kUnitRoundoff = std::numeric_limits<double>::epsilon() / 2;  // u (Higham 2002, sect. 2.1)
 constexpr double kDegToRad = M_PI / 180;
 
 using detail::CompensatedSum;
@@ -128,6 +129,8 @@ int prime_meridian_crossing(double lon1_deg, double lon2_deg) noexcept {
 struct EllipsoidWalk {
   double length_m = 0;
   double signed_area_m2 = 0;
+  double length_bound_m = 0;  // bounds on |length_m − exact|, |signed_area_m2 − exact| (Budget's *_bound); NaN: none
+  double area_bound_m2 = 0;
   std::vector<double> azimuth_deg;  // of the true edge at its start (empty when `short_edges` holds the edges)
   std::vector<double> edge_param;  // the edge's curve parameter range: metres along it (geodesic, rhumb) or the
                                    // chord length in the edge CRS's unit (straight edges)
@@ -222,6 +225,11 @@ EllipsoidWalk walk_on_ellipsoid(const Geod& geod, const std::vector<Coord>& lonl
   }
   w.length_m = sum.length();
   if (closed && edges > 0) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
+  // GeographicLib's stated accuracy per edge (Karney 2013, J. Geodesy 87:43, sect. 9; GeographicLib's documentation:
+  // 15 nm in s12, 0.1 m² in S12, from memory), taken for rhumb edges too (an assumption), plus the double-double
+  // sums' round-off.
+  w.length_bound_m = 15e-9 * double(edges) + 4 * kUnitRoundoff * w.length_m;
+  w.area_bound_m2 = closed ? 0.1 * double(edges) + 4 * kUnitRoundoff * std::fabs(w.signed_area_m2) : 0.0;
   return w;
 }
 
@@ -238,20 +246,56 @@ std::optional<EllipsoidWalk> walk_short_edges(const detail::ShortGeodesics& meth
   }
   w.length_m = sum.length();
   if (closed && !w.short_edges.empty()) w.signed_area_m2 = sum.signed_area(geod.EllipsoidArea());
+  // The closed-form method's tested bound (AuditOptions::closed_form_short_edges, tests/short_edge_truth_test.cpp).
+  w.length_bound_m = 1e-9 * w.length_m + 1e-9;
+  w.area_bound_m2 = closed ? 1e-9 * std::fabs(w.signed_area_m2) + 1e-3 : 0.0;
   return w;
 }
 
-/// Twice the signed area of a ring in the plane, centred on its first vertex to keep precision.
-double planar_area2(const std::vector<Coord>& xy) {
+/// Twice the signed area of a ring in the plane, centred on its first vertex to keep precision. With `bound2`, also
+/// a bound on its round-off: each term (a − o) × (b − o) is within 4u·(|a_x b_y| + |a_y b_x|) of exact (two
+/// subtractions, two products, one difference; Higham 2002, sect. 3.1), their compensated sum within
+/// 2u|S| + 2n u² Σ|terms| (Higham 2002, sect. 4.3).
+double planar_area2(const std::vector<Coord>& xy, double* bound2 = nullptr) {
+  if (bound2) *bound2 = 0;
   if (xy.size() < 3) return 0;
   const Coord o = xy.front();
   CompensatedSum sum;
+  double magnitude = 0;
   for (std::size_t i = 0; i < xy.size(); ++i) {
     const Coord& a = xy[i];
     const Coord& b = xy[(i + 1) % xy.size()];
     sum.add(cross(a.x - o.x, a.y - o.y, b.x - o.x, b.y - o.y));
+    if (bound2) magnitude += std::fabs((a.x - o.x) * (b.y - o.y)) + std::fabs((a.y - o.y) * (b.x - o.x));
   }
+  const double n = double(xy.size());
+  if (bound2) *bound2 = (4 * kUnitRoundoff + 2 * n * kUnitRoundoff * kUnitRoundoff) * 1.01 * magnitude +
+                        2 * kUnitRoundoff * std::fabs(sum.value());
   return sum.value();
+}
+
+/// Round-off bound on planar_length(): each chord within 3u of exact (two subtractions, hypot), the compensated
+/// sum within 2u|S| + 2n u² S (Higham 2002, sect. 4.3), all terms positive.
+double planar_length_roundoff(double length, std::size_t edges) {
+  return (5 * kUnitRoundoff + 2 * double(edges) * kUnitRoundoff * kUnitRoundoff) * 1.01 * length;
+}
+
+/// How much a measure can change when every vertex of a path moves by at most `sigma` (independently): a length
+/// by 2σ per edge; an area by σ·perimeter + max(π, n)·σ² (first order: the shoelace's gradient at a vertex is half
+/// the perpendicular of its neighbours' difference; the Steiner bound σ·P + πσ² for a boundary moved by ≤ σ is
+/// common practice).
+double moved_length_bound(double sigma, std::size_t edges) { return 2 * sigma * double(edges); }
+double moved_area_bound(double sigma, double perimeter, std::size_t vertices) {
+  return sigma * perimeter + std::max(3.141592653589793, double(vertices)) * sigma * sigma;
+}
+
+/// The projection's own numerical accuracy assumed for a vertex, in the target's unit: 1 nm, or 4 ulp of the
+/// largest coordinate of the path (PROJ's transverse Mercator is accurate to a few nm, Karney 2011 J. Geodesy
+/// 85:475; the same assumed for every projection).
+double projection_accuracy_units(const std::vector<Coord>& xy, double unit_m) {
+  double largest = 0;
+  for (const Coord& c : xy) largest = std::max({largest, std::fabs(c.x), std::fabs(c.y)});
+  return std::max(1e-9 / unit_m, 8 * kUnitRoundoff * largest);
 }
 
 double planar_length(const std::vector<Coord>& xy, bool closed) {
@@ -286,7 +330,29 @@ struct Extremes {
   bool empty() const noexcept { return lo > hi; }
 };
 
-Budget make_budget(double reference, double e_s, double e_p, double d, double g) {
+/// Bounds on the measures of a budget (Budget's *_bound), m or m²; `datum` is the datum transformation's
+/// propagated accuracy (0 when the datums agree, NaN when unknown).
+struct MeasureBounds {
+  double reference = kNaN, e_s = kNaN, e_p = kNaN, d = kNaN, g = kNaN, datum = kNaN;
+};
+
+/// Budget::*_bound from the measures' bounds: a difference's bound is the sum of its terms' (plus its own
+/// rounding, u|difference|).
+void set_bounds(Budget& b, const MeasureBounds& m) {
+  b.reference_bound = m.reference;
+  b.ellipsoid_source_bound = m.e_s;
+  b.ellipsoid_target_bound = m.e_p;
+  b.densified_grid_bound = m.d;
+  b.grid_bound = m.g;
+  const double u = kUnitRoundoff;
+  b.from_datum_bound = m.e_p + m.e_s + m.datum + u * std::fabs(b.from_datum);
+  b.error_bound = m.g + m.reference + m.datum + u * std::fabs(b.error);
+  b.from_edges_bound = m.g + m.d + u * std::fabs(b.from_edges);
+  b.from_scale_bound = m.d + m.e_p + u * std::fabs(b.from_scale);
+  b.from_height_bound = m.e_s + m.reference + u * std::fabs(b.from_height);
+}
+
+Budget make_budget(double reference, double e_s, double e_p, double d, double g, const MeasureBounds& bounds) {
   Budget b;
   b.reference = reference;
   b.grid = g;
@@ -299,12 +365,14 @@ Budget make_budget(double reference, double e_s, double e_p, double d, double g)
   b.ellipsoid_source = e_s;
   b.ellipsoid_target = e_p;
   b.densified_grid = d;
+  set_bounds(b, bounds);
   return b;
 }
 
-Budget truth_only_budget(double reference, double e_s, double e_p) {
-  Budget b = make_budget(reference, e_s, e_p, kNaN, kNaN);
+Budget truth_only_budget(double reference, double e_s, double e_p, const MeasureBounds& bounds) {
+  Budget b = make_budget(reference, e_s, e_p, kNaN, kNaN, bounds);
   b.from_datum = std::isnan(e_p) ? kNaN : e_p - e_s;
+  set_bounds(b, bounds);
   return b;
 }
 
@@ -508,12 +576,21 @@ class PathDensifier {
         return {};
       }
     }
+    if (const double d = deviation(p0, pm, p1); d <= tolerance_) {
+      // One parabola: it misses the image's cubic term, which scales as d·c/R (an estimate with a factor 10 of
+      // margin, tested in tests/bounds_test.cpp).
+      accept(p0, pm, p1);
+      const double c = chord(p0, p1);
+      bound_length_.add(kParabolaMargin * d * d / radius_);
+      if (path_.closed()) bound_area2_.add(2 * kParabolaMargin * d * c * c / radius_);
+      return {};
+    }
     stack_.assign(1, Piece{0.0, edge_m, p0, p1, pm});
     while (!stack_.empty()) {
       const Piece piece = stack_.back();
       stack_.pop_back();
       if (deviation(piece.p0, piece.pm, piece.p1) <= tolerance_) {
-        accept(piece.p0, piece.pm, piece.p1);
+        accept_piece(piece.p0, piece.pm, piece.p1);
         continue;
       }
       if (first) {
@@ -544,8 +621,8 @@ class PathDensifier {
                 : std::numeric_limits<double>::infinity();
       if (residual <= kCubic * tolerance_ && deviation(piece.p0, q1, piece.pm) <= kSmooth * chord(piece.p0, piece.pm) &&
           deviation(piece.pm, q3, piece.p1) <= kSmooth * chord(piece.pm, piece.p1)) {
-        accept(piece.p0, q1, piece.pm);
-        accept(piece.pm, q3, piece.p1);
+        accept_piece(piece.p0, q1, piece.pm);
+        accept_piece(piece.pm, q3, piece.p1);
         continue;
       }
       stack_.push_back({sm, piece.s1, piece.pm, piece.p1, q3});
@@ -559,6 +636,10 @@ class PathDensifier {
   /// Sums of the quadrature's error estimates (edge_quadrature.hpp) over the edges it measured.
   double quadrature_length_error_units() const { return length_error_.value(); }
   double quadrature_area_error_units2() const { return area_error_.value(); }
+  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's estimates,
+  /// the parabola edges' estimate, the fallback pieces' whole bulges; length in the unit, area as twice the area.
+  double method_length_bound_units() const { return length_error_.value() + bound_length_.value(); }
+  double method_area2_bound_units2() const { return 2 * area_error_.value() + bound_area2_.value(); }
   std::size_t quadrature_edges() const { return quadrature_edges_; }
   double mean_order() const { return quadrature_edges_ ? double(order_sum_) / quadrature_edges_ : 0; }
 
@@ -596,6 +677,15 @@ class PathDensifier {
     return finite(xy);
   }
 
+  /// A piece of the fallback densification, its error bounded by its whole bulge (3d²/c in length, d·c in area).
+  void accept_piece(const Coord& p0, const Coord& pm, const Coord& p1) {
+    accept(p0, pm, p1);
+    const double c = chord(p0, p1);
+    const double d = deviation(p0, pm, p1);
+    bound_length_.add(c > 0 ? 3 * d * d / c : 2 * d);
+    if (path_.closed()) bound_area2_.add(2 * d * c);
+  }
+
   void accept(const Coord& p0, const Coord& pm, const Coord& p1) {
     const double c = chord(p0, p1);
     length_.add((4 * (chord(p0, pm) + chord(pm, p1)) - c) / 3);
@@ -625,6 +715,8 @@ class PathDensifier {
   static constexpr double kQuadratureShare = 1e-2;
   detail::EdgeQuadrature quadrature_;
   CompensatedSum length_error_, area_error_;
+  static constexpr double kParabolaMargin = 10;
+  CompensatedSum bound_length_, bound_area2_;
   std::size_t quadrature_edges_ = 0;
   long order_sum_ = 0;
 };
@@ -1328,6 +1420,8 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
         r.message = why;
         return r;
       }
+      // The straight-edge truth is a refinement to the densify tolerance: no bound yet.
+      walk_s[i].length_bound_m = walk_s[i].area_bound_m2 = on_target.length_bound_m = on_target.area_bound_m2 = kNaN;
       if (separate_target) walk_p_own[i] = std::move(on_target);
     }
     for (const Coord& c : path.lonlat_s) lat_sum.add(c.y), ++lat_count;
@@ -1355,12 +1449,37 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   const double e_s_area = sum_area(walk_s);
   const double ref_length = e_s_length * lift;
   const double ref_area = e_s_area * lift * lift;
+  // Bounds on the truth (Budget::*_bound): the walks' bounds (areas of rings add, whatever their role).
+  auto sum_bounds = [&](const std::vector<EllipsoidWalk>& walks, MeasureBounds& length, MeasureBounds& area,
+                        bool source_side) {
+    double l = 0, a = 0;
+    for (const EllipsoidWalk& w : walks) l += w.length_bound_m, a += w.area_bound_m2;
+    l += 2 * kUnitRoundoff * sum_length(walks);
+    (source_side ? length.e_s : length.e_p) = l;
+    (source_side ? area.e_s : area.e_p) = has_area ? a : 0.0;
+  };
+  MeasureBounds length_bounds, area_bounds;
+  sum_bounds(walk_s, length_bounds, area_bounds, true);
+  length_bounds.reference = length_bounds.e_s * lift + 2 * kUnitRoundoff * ref_length;
+  area_bounds.reference = area_bounds.e_s * lift * lift + 3 * kUnitRoundoff * ref_area;
+  // The datum transformation's stated accuracy σ, propagated (moved_*_bound) over the source perimeter.
+  std::size_t edge_total = 0, vertex_total = 0;
+  for (const WorkPath& path : paths) {
+    const std::size_t n = path.lonlat_s.size();
+    edge_total += n < 2 ? 0 : (path.closed() ? n : n - 1);
+    vertex_total += n;
+  }
+  const double sigma_m =
+      !separate_target ? 0.0 : transform.accuracy_m && !transform.is_ballpark ? *transform.accuracy_m : kNaN;
+  length_bounds.datum = moved_length_bound(sigma_m, edge_total);
+  area_bounds.datum = has_area ? moved_area_bound(sigma_m, e_s_length, vertex_total) : 0.0;
+  if (!separate_target) length_bounds.e_p = length_bounds.e_s, area_bounds.e_p = area_bounds.e_s;
 
   auto fail = [&](const std::string& why, double e_p_length, double e_p_area) {
     r.status = Status::unmeasurable;
     r.message = with_note(why);
-    if (has_length) r.length = truth_only_budget(ref_length, e_s_length, e_p_length);
-    if (has_area) r.area = truth_only_budget(ref_area, e_s_area, e_p_area);
+    if (has_length) r.length = truth_only_budget(ref_length, e_s_length, e_p_length, length_bounds);
+    if (has_area) r.area = truth_only_budget(ref_area, e_s_area, e_p_area, area_bounds);
     return r;
   };
   if (!transform_failure.empty()) return fail(transform_failure, kNaN, kNaN);
@@ -1394,10 +1513,13 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   }
   const double e_p_length = separate_target ? sum_length(walk_p_own) : e_s_length;
   const double e_p_area = separate_target ? sum_area(walk_p_own) : e_s_area;
+  if (separate_target) sum_bounds(walk_p_own, length_bounds, area_bounds, false);
 
   // 5. G (straight chords) and D (projected true edges), path by path, with the bearing of every chord.
   CompensatedSum g_length, d_length;
   std::vector<double> g_area2(paths.size(), 0.0), d_area2(paths.size(), 0.0);
+  // Bounds on G and D in the target's unit (length) and as twice the area (unit²); rings' bounds add.
+  double g_length_bound = 0, g_area2_bound = 0, d_length_bound = 0, d_area2_bound = 0;
   std::vector<Coord> samples = points_p;
   BearingExtreme bearing;
   std::size_t densified = 0;
@@ -1407,7 +1529,15 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     const EllipsoidWalk& walk = (*walk_p)[i];
     const double path_g_length = planar_length(path.xy, path.closed());
     g_length.add(path_g_length);
-    if (path.closed()) g_area2[i] = planar_area2(path.xy);
+    double path_g_area2_roundoff = 0;
+    if (path.closed()) g_area2[i] = planar_area2(path.xy, &path_g_area2_roundoff);
+    const double eps_xy = projection_accuracy_units(path.xy, unit_m);
+    const double path_g_length_bound =
+        planar_length_roundoff(path_g_length, path.edge_count()) + moved_length_bound(eps_xy, path.edge_count());
+    const double path_g_area2_bound =
+        path.closed() ? path_g_area2_roundoff + 2 * moved_area_bound(eps_xy, path_g_length, path.xy.size()) : 0.0;
+    g_length_bound += path_g_length_bound;
+    g_area2_bound += path_g_area2_bound;
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
     PathDensifier densifier(op_fast.get(), tolerance_units, target.ellipsoid.a_m / unit_m, path, i, samples,
                             densified);
@@ -1506,9 +1636,18 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     if (straight && edge_crs_is_target) {
       d_length.add(path_g_length);
       d_area2[i] = g_area2[i];
+      d_length_bound += path_g_length_bound;
+      d_area2_bound += path_g_area2_bound;
     } else {
       d_length.add(densifier.length_units());
       if (path.closed()) d_area2[i] = densifier.area2_units();
+      // G's round-off and projection terms, the method's bound, and the round-off of the bulges' sum.
+      d_length_bound += path_g_length_bound + densifier.method_length_bound_units() +
+                        planar_length_roundoff(std::fabs(densifier.length_units() - path_g_length), path.edge_count());
+      if (path.closed()) {
+        d_area2_bound += path_g_area2_bound + densifier.method_area2_bound_units2() +
+                         4 * kUnitRoundoff * std::fabs(d_area2[i] - g_area2[i]);
+      }
     }
   }
   r.densified_points = densified;
@@ -1525,8 +1664,10 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   // 7. The budget.
   const double unit2 = unit_m * unit_m;
   if (has_length) {
+    length_bounds.g = (g_length_bound + 2 * kUnitRoundoff * g_length.value()) * unit_m;
+    length_bounds.d = (d_length_bound + 2 * kUnitRoundoff * d_length.value()) * unit_m;
     r.length = make_budget(ref_length, e_s_length, e_p_length, d_length.value() * unit_m,
-                           g_length.value() * unit_m);
+                           g_length.value() * unit_m, length_bounds);
   }
   if (has_area) {
     std::vector<double> g_area(paths.size()), d_area(paths.size());
@@ -1534,7 +1675,10 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
       g_area[i] = 0.5 * g_area2[i] * unit2;
       d_area[i] = 0.5 * d_area2[i] * unit2;
     }
-    r.area = make_budget(ref_area, e_s_area, e_p_area, polygon_area(paths, d_area), polygon_area(paths, g_area));
+    const double g_area_m2 = polygon_area(paths, g_area), d_area_m2 = polygon_area(paths, d_area);
+    area_bounds.g = 0.5 * g_area2_bound * unit2 + 2 * kUnitRoundoff * std::fabs(g_area_m2);
+    area_bounds.d = 0.5 * d_area2_bound * unit2 + 2 * kUnitRoundoff * std::fabs(d_area_m2);
+    r.area = make_budget(ref_area, e_s_area, e_p_area, d_area_m2, g_area_m2, area_bounds);
   }
   // Combined factor: mean grid scale × elevation factor R_G/(R_G + h).
   const double mean_scale = r.length && r.length->ellipsoid_target > 0

@@ -19,7 +19,7 @@ constexpr ResultColumn number_column(std::string_view name) { return {name, Colu
 
 }  // namespace
 
-const std::vector<ResultColumn>& result_columns(bool combined_factor) {
+const std::vector<ResultColumn>& result_columns(bool combined_factor, bool bounds) {
   static const std::vector<ResultColumn> base = {
       text_column("id"), text_column("geometry_type"), text_column("status"), text_column("message"),
       {"vertices", ColumnKind::count},
@@ -38,6 +38,21 @@ const std::vector<ResultColumn>& result_columns(bool combined_factor) {
     c.push_back(number_column("combined_factor"));
     return c;
   }();
+  // The bound of each reported figure (Budget::*_bound), after every other column.
+  static constexpr ResultColumn bound_columns[] = {
+      number_column("true_length_bound_m"), number_column("grid_length_bound_m"),
+      number_column("length_error_bound_m"), number_column("length_from_edges_bound_m"),
+      number_column("length_from_scale_bound_m"), number_column("length_from_datum_bound_m"),
+      number_column("length_from_height_bound_m"), number_column("true_area_bound_m2"),
+      number_column("grid_area_bound_m2"), number_column("area_error_bound_m2"),
+      number_column("area_from_edges_bound_m2"), number_column("area_from_scale_bound_m2"),
+      number_column("area_from_datum_bound_m2"), number_column("area_from_height_bound_m2")};
+  auto with_bounds = [](std::vector<ResultColumn> c) {
+    c.insert(c.end(), std::begin(bound_columns), std::end(bound_columns));
+    return c;
+  };
+  static const std::vector<ResultColumn> base_bounds = with_bounds(base), factor_bounds = with_bounds(with_factor);
+  if (bounds) return combined_factor ? factor_bounds : base_bounds;
   return combined_factor ? with_factor : base;
 }
 
@@ -58,6 +73,15 @@ void add_budget(ResultRow& row, const std::optional<Budget>& b) {
   for (const double v : values) row.cells[row.size++].number = v;
 }
 
+/// Appends the 7 bound cells of a budget (empty when absent).
+void add_budget_bounds(ResultRow& row, const std::optional<Budget>& b) {
+  const double values[7] = {b ? b->reference_bound : NAN,  b ? b->grid_bound : NAN,
+                            b ? b->error_bound : NAN,      b ? b->from_edges_bound : NAN,
+                            b ? b->from_scale_bound : NAN, b ? b->from_datum_bound : NAN,
+                            b ? b->from_height_bound : NAN};
+  for (const double v : values) row.cells[row.size++].number = v;
+}
+
 }  // namespace
 
 std::string row_message(const AuditResult& r) {
@@ -69,7 +93,7 @@ std::string row_message(const AuditResult& r) {
   return text;
 }
 
-ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_factor) {
+ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_factor, bool bounds) {
   ResultRow row;
   row.cells[row.size++].text = id;
   row.cells[row.size++].text = to_string(r.type);
@@ -87,13 +111,17 @@ ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_fa
   row.cells[row.size++].number = r.bearing_error_max_arcsec ? *r.bearing_error_max_arcsec : NAN;
   row.cells[row.size++].text = to_string(r.verdict);
   if (combined_factor) row.cells[row.size++].number = r.combined_factor ? *r.combined_factor : NAN;
+  if (bounds) {
+    add_budget_bounds(row, r.length);
+    add_budget_bounds(row, r.area);
+  }
   return row;
 }
 
 ResultRow unread_row(std::string_view id, std::string_view message, std::optional<GeometryType> type,
-                     bool combined_factor) {
+                     bool combined_factor, bool bounds) {
   ResultRow row;
-  const auto& columns = result_columns(combined_factor);
+  const auto& columns = result_columns(combined_factor, bounds);
   row.size = columns.size();
   for (std::size_t k = 0; k < row.size; ++k) {
     if (columns[k].kind != ColumnKind::text) row.cells[k].number = NAN;
@@ -115,7 +143,7 @@ const std::vector<std::string>& ResultCsvWriter::columns() {
 }
 
 void ResultCsvWriter::write_header() {
-  const auto& columns = result_columns(combined_factor_);
+  const auto& columns = result_columns(combined_factor_, bounds_);
   for (std::size_t k = 0; k < columns.size(); ++k) {
     if (k) *out_ << ',';
     *out_ << columns[k].name;
@@ -127,7 +155,7 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
   // One line built in one buffer (numbers appended in place), kept between rows: a row costs well under 1 µs.
   std::string& line = line_;
   line.clear();
-  const auto& columns = result_columns(combined_factor_);
+  const auto& columns = result_columns(combined_factor_, bounds_);
   for (std::size_t k = 0; k < row.size; ++k) {
     if (k) line += ',';
     const ResultCell& cell = row.cells[k];
@@ -150,12 +178,12 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
 }
 
 void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
-  write_cells(result_row(id, r, combined_factor_));
+  write_cells(result_row(id, r, combined_factor_, bounds_));
 }
 
 void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view message,
                                        std::optional<GeometryType> type) {
-  write_cells(unread_row(id, message, type, combined_factor_));
+  write_cells(unread_row(id, message, type, combined_factor_, bounds_));
 }
 
 }  // namespace gridtruth

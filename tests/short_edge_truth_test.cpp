@@ -25,17 +25,8 @@ AuditOptions options_for(const std::string& target, bool closed_form) {
   return o;
 }
 
-/// A random star-shaped ring of n vertices around (lon, lat) with edges of about edge_m, by geodesic Direct.
 Path star(std::mt19937_64& rng, double lon, double lat, double edge_m, int n) {
-  std::uniform_real_distribution<double> jitter(0.75, 1.25);
-  const double radius = edge_m * n / (2 * test::pi);
-  Path ring;
-  for (int k = 0; k < n; ++k) {
-    double lat2 = 0, lon2 = 0;
-    GeographicLib::Geodesic::WGS84().Direct(lat, lon, 360.0 * k / n, radius * jitter(rng), lat2, lon2);
-    ring.push_back({lon2, lat2});
-  }
-  return ring;
+  return test::star_ring(rng, lon, lat, edge_m, n);
 }
 
 std::string where(const Path& ring) {

@@ -13,6 +13,7 @@
 #include <cstdint>
 #include <cstdlib>
 #include <iostream>
+#include <random>
 #include <string>
 #include <vector>
 
@@ -155,6 +156,19 @@ inline std::uint64_t test_seed(std::uint64_t default_seed = 20240917ULL) {
   std::cout << "[ seed     ] " << seed << " (replay with GRIDTRUTH_TEST_SEED=" << seed << ")\n";
   ::testing::Test::RecordProperty("seed", std::to_string(seed));
   return seed;
+}
+
+/// A random star-shaped ring of n vertices around (lon, lat), edges of about edge_m, by geodesic Direct.
+inline Path star_ring(std::mt19937_64& rng, double lon, double lat, double edge_m, int n) {
+  std::uniform_real_distribution<double> jitter(0.75, 1.25);
+  const double radius = edge_m * n / (2 * pi);
+  Path ring;
+  for (int k = 0; k < n; ++k) {
+    double lat2 = 0, lon2 = 0;
+    GeographicLib::Geodesic::WGS84().Direct(lat, lon, 360.0 * k / n, radius * jitter(rng), lat2, lon2);
+    ring.push_back({lon2, lat2});
+  }
+  return ring;
 }
 
 }  // namespace gridtruth::test

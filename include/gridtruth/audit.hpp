@@ -112,6 +112,38 @@ struct Budget {
   /// 2048-piece Richardson-extrapolated reference for edges of 1 m to 2000 km in seven projections: within 1e-9
   /// relative or 1e-4 m² and 1e-6 m (tests/edge_quadrature_test.cpp).
   double densified_grid = 0;
+
+  // Bounds (m or m², ≥ 0; NaN: no bound can be given). Each bounds |computed − exact| of the figure it names:
+  // what the arithmetic and the methods behind it may have got wrong, not how wrong the grid is. The datum part's
+  // bound (and so the error's) also holds the datum transformation's stated accuracy. See README "Accuracy".
+  /// Bound on E_S: GeographicLib's stated accuracy per edge (15 nm in length, 0.1 m² in area, Karney 2013 J.
+  /// Geodesy 87:43, sect. 9; geodesic and rhumb edges), or the closed-form short-edge path's tested bound (1e-9
+  /// relative + 1 nm, 1e-3 m²), plus the summation's round-off. NaN for edges straight in a CRS (their truth is a
+  /// refinement to the densify tolerance, not bounded yet).
+  double ellipsoid_source_bound = 0;
+  /// Bound on E_P, as ellipsoid_source_bound (0 difference in method: the same walk on the target's ellipsoid).
+  double ellipsoid_target_bound = 0;
+  /// Bound on R: E_S's bound times the height lift, plus its round-off.
+  double reference_bound = 0;
+  /// Bound on G: the centred shoelace (area) or the sum of chords (length) in double precision with compensated
+  /// summation (Higham 2002, ch. 4), plus the projection's own numerical accuracy, assumed 1 nm per vertex or
+  /// 4 ulp of the coordinates, whichever is larger (every vertex moved by ≤ ε: length ≤ 2ε per edge, area ≤
+  /// ε·perimeter + max(π, n)·ε²).
+  double grid_bound = 0;
+  /// Bound on D: G's round-off and projection terms, plus per edge the quadrature's error estimate (edges it
+  /// integrated), 10·d²/R (length) and 10·d·c²/R (area) for an edge taken as one parabola (d its midpoint's offset
+  /// from its chord c, R the target's equatorial radius: the parabola misses the image's cubic term, which scales
+  /// as d·c/R; an estimate, tested), or 3d²/c and d·c per piece the fallback densifier accepted (the whole bulge).
+  double densified_grid_bound = 0;
+  double error_bound = 0;        ///< bound on G − R: grid_bound + reference_bound + the datum term (as from_datum)
+  double from_edges_bound = 0;   ///< bound on G − D: grid_bound + densified_grid_bound
+  double from_scale_bound = 0;   ///< bound on D − E_P: densified_grid_bound + ellipsoid_target_bound
+  /// Bound on E_P − E_S: both ellipsoids' bounds plus, when the datums differ, the transformation's stated
+  /// accuracy σ (TransformInfo::accuracy_m) propagated as a worst case: every vertex moved by ≤ σ independently
+  /// changes a length by ≤ 2σ per edge and an area by ≤ σ·perimeter + max(π, n)·σ² (n vertices; the Steiner
+  /// bound σ·P + πσ² for a boundary moved by ≤ σ, common practice). NaN when the accuracy is unknown (ballpark).
+  double from_datum_bound = 0;
+  double from_height_bound = 0;  ///< bound on E_S − R: reference_bound + ellipsoid_source_bound
 };
 
 /// Distortion statistics over the vertices and densified points of a feature (Tissot's indicatrix from central
@@ -201,7 +233,8 @@ struct TransformInfo {
 /// metre per 10⁶ km², Karney 2013). D is a parabola per edge within the densify tolerance of its chord, else a
 /// quadrature to δ/100 per edge (see Budget::densified_grid), so its error is far below that tolerance times the
 /// perimeter; the distortion statistics come from central differences of the projection
-/// (relative error about 1e-9).
+/// (relative error about 1e-9). Every budget carries its bounds (Budget::*_bound), tested in
+/// tests/bounds_test.cpp against GeodesicExact, long-double sums and a 1000× refined quadrature.
 class Auditor {
  public:
   /// Resolves both CRSs and chooses the datum transformation (up to a few hundred milliseconds). Throws Error:

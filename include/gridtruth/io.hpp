@@ -193,8 +193,11 @@ struct ResultColumn {
 };
 
 /// The result table's columns in order: the CSV header of `gridtruth audit`, plus a last `combined_factor` when
-/// asked for. One table for every writer of results (CSV, the Python binding).
-const std::vector<ResultColumn>& result_columns(bool combined_factor = false);
+/// asked for, then (with `bounds`) the 14 bound columns `true_length_bound_m`, `grid_length_bound_m`,
+/// `length_error_bound_m`, `length_from_{edges,scale,datum,height}_bound_m` and the same for area (`*_m2`):
+/// Budget's *_bound, empty where no bound can be given. One table for every writer of results (CSV, the Python
+/// binding).
+const std::vector<ResultColumn>& result_columns(bool combined_factor = false, bool bounds = false);
 
 /// One cell of a result row. Text columns use `text` (which points into the id, the result or static names, so
 /// the row must not outlive them); count and number columns use `number`, NaN when the value does not apply (a
@@ -206,7 +209,7 @@ struct ResultCell {
 
 /// The cells of one row, column by column as result_columns(combined_factor) lists them.
 struct ResultRow {
-  static constexpr std::size_t max_columns = 31;  ///< columns with combined_factor
+  static constexpr std::size_t max_columns = 45;  ///< columns with combined_factor and the bounds
   ResultCell cells[max_columns];                  ///< the first `size` are set
   std::size_t size = 0;                           ///< result_columns(combined_factor).size()
 };
@@ -217,11 +220,12 @@ std::string row_message(const AuditResult& result);
 
 /// The row of an audited feature (`id` as given). Its message cell is AuditResult::message: give the writer a
 /// result whose message is row_message() for the command's rows.
-ResultRow result_row(std::string_view id, const AuditResult& result, bool combined_factor = false);
+ResultRow result_row(std::string_view id, const AuditResult& result, bool combined_factor = false,
+                     bool bounds = false);
 /// The row of a feature that could not be read: status `invalid`, the message, the geometry type when known, every
 /// other cell empty.
 ResultRow unread_row(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt,
-                     bool combined_factor = false);
+                     bool combined_factor = false, bool bounds = false);
 
 /// Writes audit results as CSV rows (RFC 4180), one per feature, with the columns of result_columns().
 /// Numbers use format_number(); a value that does not apply (a point's length, a line's area, NaN) is an empty
@@ -234,6 +238,8 @@ class ResultCsvWriter {
   static const std::vector<std::string>& columns();
   /// Adds a last column `combined_factor` (AuditResult::combined_factor), for audits with heights.
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
+  /// Adds the 14 bound columns after every other (result_columns()'s `bounds`).
+  void with_bounds(bool on) noexcept { bounds_ = on; }
   /// Writes the header row: the names of columns(), in order.
   void write_header();
   /// One audited feature.
@@ -248,6 +254,7 @@ class ResultCsvWriter {
   std::ostream* out_;
   std::string line_ending_;
   bool combined_factor_ = false;
+  bool bounds_ = false;
   std::string line_;  // the row being built, kept so that its buffer is reused
 };
 
