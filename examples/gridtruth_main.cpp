@@ -62,11 +62,19 @@ struct AuditArgs {
   std::string summary;
   std::string report;
   std::string geojson;
+  std::string gpkg;
   std::string units = "metric";
   std::string format = "auto";
   unsigned threads = 0;
   bool repair = false;
 };
+
+/// The GeoPackage layer's name: the file's name without its directory and extension ("audit" if that is empty).
+std::string gpkg_layer_name(const std::string& path) {
+  std::string name = path.substr(path.rfind('/') == std::string::npos ? 0 : path.rfind('/') + 1);
+  if (const auto dot = name.rfind('.'); dot != std::string::npos && dot > 0) name.erase(dot);
+  return name.empty() ? std::string("audit") : name;
+}
 
 /// One line on standard error: the reason the run could not go on.
 int fail_run(const std::string& reason) {
@@ -149,7 +157,7 @@ int run_audit(const AuditArgs& args) {
   reader_options.layer = args.layer;
 
   std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
-  for (const std::string* path : {&args.summary, &args.report, &args.geojson})
+  for (const std::string* path : {&args.summary, &args.report, &args.geojson, &args.gpkg})
     if (!path->empty()) outputs.push_back(*path);
   if (const std::string problem = cli::same_file_problem({args.input}, outputs); !problem.empty())
     return fail_run(problem);
@@ -187,9 +195,18 @@ int run_audit(const AuditArgs& args) {
 
   // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
   // each is written under a temporary name and renamed into place once complete (examples/output_file.hpp).
-  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file;
+  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file, gpkg_file;
   std::optional<ResultCsvWriter> writer;
   std::optional<ResultGeoJsonWriter> geojson;
+  std::optional<ResultGeoPackageWriter> gpkg;
+  // The GeoPackage is written by GDAL: its errors are those of an output, not of the input.
+  auto as_output_error = [&](auto write) {
+    try {
+      write();
+    } catch (const Error& e) {
+      throw cli::OutputError(e.what());
+    }
+  };
   auto open_outputs = [&] {
     out_file = std::make_unique<cli::OutputFile>(args.out);
     if (!args.summary.empty()) summary_file = std::make_unique<cli::OutputFile>(args.summary);
@@ -199,6 +216,13 @@ int run_audit(const AuditArgs& args) {
       geojson_file = std::make_unique<cli::OutputFile>(args.geojson);
       geojson.emplace(geojson_file->stream());
       geojson->with_combined_factor(with_heights);
+    }
+    if (!args.gpkg.empty()) {
+      gpkg_file = cli::OutputFile::for_named_writer(args.gpkg, ".gpkg");
+      as_output_error([&] {
+        gpkg.emplace(gpkg_file->temp_path(), options.source_crs, gpkg_layer_name(args.gpkg));
+        gpkg->with_combined_factor(with_heights);
+      });
     }
     writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
@@ -224,13 +248,14 @@ int run_audit(const AuditArgs& args) {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
       if (!writer) open_outputs();
       if (feature.geometry) {
-        if (result.failed.empty()) {
-          writer->write_row(feature.id, result);
-        } else {
-          AuditResult annotated = result;
-          annotated.message = row_message(result);
-          writer->write_row(feature.id, annotated);
+        std::optional<AuditResult> annotated;
+        if (!result.failed.empty()) {
+          annotated = result;
+          annotated->message = row_message(result);
         }
+        const AuditResult& row = annotated ? *annotated : result;
+        writer->write_row(feature.id, row);
+        if (gpkg) as_output_error([&] { gpkg->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
         summary.add(feature, result);
         if (report) report->add(feature.id, *feature.geometry, result);
         if (geojson) geojson->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
@@ -239,6 +264,10 @@ int run_audit(const AuditArgs& args) {
         summary.add_unread(feature);
         if (report) report->add_unread(feature.id);
         if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+        if (gpkg)
+          as_output_error([&] {
+            gpkg->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+          });
       }
       progress.update(summary.read());
     });
@@ -263,15 +292,16 @@ int run_audit(const AuditArgs& args) {
   const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units, &problems};
   try {
     if (geojson) geojson->finish();
+    if (gpkg) as_output_error([&] { gpkg->finish(); });
     if (report) {
       if (report_html) report->write_html(report_file->stream());
       else report->write_svg(report_file->stream());
     }
     if (summary_file) summary_file->stream() << summary.to_json(context).dump(2) << "\n";
     // Every file is complete before the first is renamed into place.
-    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
       if (*file) (*file)->finish();
-    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
       if (*file) (*file)->commit();
   } catch (const cli::OutputError& e) {
     return fail_run(e.what());
@@ -331,6 +361,9 @@ const char* audit_footer =
     "  the budget parts of the worst features, and a caption. The HTML page holds the same picture and the\n"
     "  summary tables; neither needs a network or a script. --geojson writes the features as read, with every\n"
     "  CSV column in their properties.\n"
+    "GeoPackage (--gpkg FILE.gpkg): one layer named after the file, the features in the source CRS, the input's\n"
+    "  attributes, then every CSV column (numbers as Real, counts as Integer, empty cells as NULL); an input\n"
+    "  attribute named like a column is kept as input_<name>; a feature that could not be read has no geometry.\n"
     "\n"
     "Summary units (--units; the CSV stays in SI units):\n"
     "  metric           m, m2\n"
@@ -413,6 +446,9 @@ int main(int argc, char** argv) {
                     "tables)");
   audit->add_option("--geojson", args.geojson,
                     "also write the input features with every CSV column in their properties, as GeoJSON");
+  audit->add_option("--gpkg", args.gpkg,
+                    "also write the input features in their own CRS, with their attributes and every CSV column, "
+                    "as a GeoPackage layer (named after the file)");
   audit->add_option("--units", args.units, "units of the summary's totals")
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();

@@ -16,6 +16,7 @@
 #include <sstream>
 #include <unordered_map>
 
+#include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 
 namespace gridtruth {
@@ -1214,5 +1215,21 @@ void ResultGeoJsonWriter::write_unread(std::string_view id, std::string_view mes
   write_properties(id, row.str(), input_properties_json);
   *out_ << "null}";
 }
+
+#ifndef GRIDTRUTH_WITH_GDAL
+// Without GDAL (lib/gdal/gpkg_writer.cpp is not built): the writer exists, and says why it cannot work.
+struct ResultGeoPackageWriter::Impl {};
+ResultGeoPackageWriter::ResultGeoPackageWriter(const std::string& path, const std::string&, const std::string&) {
+  throw Error(ErrorCode::io, "cannot write the GeoPackage " + path +
+                                 ": this build of gridtruth has no GDAL (install Debian's libgdal-dev and configure "
+                                 "again, GRIDTRUTH_WITH_GDAL)");
+}
+ResultGeoPackageWriter::~ResultGeoPackageWriter() = default;
+void ResultGeoPackageWriter::with_combined_factor(bool) noexcept {}
+void ResultGeoPackageWriter::write_feature(std::string_view, const Geometry&, const AuditResult&, std::string_view) {}
+void ResultGeoPackageWriter::write_unread(std::string_view, std::string_view, std::optional<GeometryType>,
+                                          std::string_view) {}
+void ResultGeoPackageWriter::finish() {}
+#endif
 
 }  // namespace gridtruth

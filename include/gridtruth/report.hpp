@@ -131,4 +131,43 @@ class ResultGeoJsonWriter {
   bool finished_ = false;
 };
 
+/// Writes audited features as one layer of a new GeoPackage (OGC 12-128r18) through GDAL's GPKG driver, for GIS
+/// software: each feature's geometry as read, in the source CRS (the layer's spatial reference, x = longitude or
+/// easting whatever the CRS's official axis order); the input's attributes (InputFeature::properties_json) as
+/// fields, created as they first appear (JSON integers as Integer64, other numbers as Real, booleans as Integer,
+/// strings as String, arrays and objects as their JSON text), before the audit columns; then every column of
+/// result_columns() under the same names: numbers as Real, counts as Integer64, text as String, values that do not
+/// apply (NaN) as NULL. An input attribute whose name is an audit column's, or the layer's "fid" or "geom" column
+/// (compared case-insensitively, as SQLite does), is kept as "input_<name>". A feature that could not be read is a
+/// row with a NULL geometry. All rows are written in one transaction, committed by finish().
+/// Needs a build with GDAL (built_with_gdal() in cells.hpp); otherwise the constructor throws Error(io).
+/// Not thread-safe: one thread writes.
+class ResultGeoPackageWriter {
+ public:
+  /// Creates the GeoPackage `path` (which must not exist) with one layer `layer_name` whose spatial reference is
+  /// `source_crs` (any definition GDAL's OSRSetFromUserInput takes: "EPSG:n", WKT, PROJJSON, a PROJ string).
+  /// Throws Error(io) naming the path and GDAL's reason, Error(unknown_crs) when GDAL cannot read the CRS.
+  ResultGeoPackageWriter(const std::string& path, const std::string& source_crs,
+                         const std::string& layer_name = "audit");
+  ~ResultGeoPackageWriter();
+  ResultGeoPackageWriter(const ResultGeoPackageWriter&) = delete;
+  ResultGeoPackageWriter& operator=(const ResultGeoPackageWriter&) = delete;
+  /// Adds the `combined_factor` column, as ResultCsvWriter::with_combined_factor(); before the first row only.
+  void with_combined_factor(bool on) noexcept;
+  /// One audited feature, geometry in the source CRS. Throws Error(io) when GDAL cannot write the row.
+  void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
+                     std::string_view input_properties_json = {});
+  /// One feature that could not be read: NULL geometry, the cells of unread_row().
+  void write_unread(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt,
+                    std::string_view input_properties_json = {});
+  /// Commits the rows and closes the file (a layer without rows is still created). Throws Error(io) naming
+  /// GDAL's reason. The destructor closes an unfinished file as it is (the caller should remove it).
+  void finish();
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+
 }  // namespace gridtruth
