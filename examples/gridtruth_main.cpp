@@ -62,6 +62,7 @@ struct AuditArgs {
   std::string summary;
   std::string report;
   std::string geojson;
+  std::string geojson_crs = "wgs84";
   std::string gpkg;
   std::string units = "metric";
   std::string format = "auto";
@@ -199,7 +200,7 @@ int run_audit(const AuditArgs& args) {
   std::optional<ResultCsvWriter> writer;
   std::optional<ResultGeoJsonWriter> geojson;
   std::optional<ResultGeoPackageWriter> gpkg;
-  // The GeoPackage is written by GDAL: its errors are those of an output, not of the input.
+  // The GeoPackage (GDAL) and the GeoJSON transformation (PROJ): their errors are an output's, not the input's.
   auto as_output_error = [&](auto write) {
     try {
       write();
@@ -214,7 +215,10 @@ int run_audit(const AuditArgs& args) {
     if (!args.report.empty()) report_file = std::make_unique<cli::OutputFile>(args.report);
     if (!args.geojson.empty()) {
       geojson_file = std::make_unique<cli::OutputFile>(args.geojson);
-      geojson.emplace(geojson_file->stream());
+      as_output_error([&] {
+        geojson.emplace(geojson_file->stream(), options.source_crs,
+                        args.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
+      });
       geojson->with_combined_factor(with_heights);
     }
     if (!args.gpkg.empty()) {
@@ -359,8 +363,9 @@ const char* audit_footer =
     "  understates, orange to brown: it overstates), over isolines of the projection's scale with the line of\n"
     "  true scale dashed and the CRS's area of use outlined; beside it a histogram of ppm with the tolerances,\n"
     "  the budget parts of the worst features, and a caption. The HTML page holds the same picture and the\n"
-    "  summary tables; neither needs a network or a script. --geojson writes the features as read, with every\n"
-    "  CSV column in their properties.\n"
+    "  summary tables; neither needs a network or a script. --geojson writes the features with every CSV column\n"
+    "  in their properties, in WGS 84 longitude/latitude as RFC 7946 requires (transformed by PROJ from another\n"
+    "  source CRS), or with --geojson-crs source as read, the CRS named by a 2008-style \"crs\" member.\n"
     "GeoPackage (--gpkg FILE.gpkg): one layer named after the file, the features in the source CRS, the input's\n"
     "  attributes, then every CSV column (numbers as Real, counts as Integer, empty cells as NULL); an input\n"
     "  attribute named like a column is kept as input_<name>; a feature that could not be read has no geometry.\n"
@@ -446,6 +451,11 @@ int main(int argc, char** argv) {
                     "tables)");
   audit->add_option("--geojson", args.geojson,
                     "also write the input features with every CSV column in their properties, as GeoJSON");
+  audit->add_option("--geojson-crs", args.geojson_crs,
+                    "coordinates of --geojson: wgs84 (longitude, latitude, RFC 7946; transformed when the input "
+                    "is in another CRS) or source (as read, the CRS named by a \"crs\" member)")
+      ->check(CLI::IsMember({"wgs84", "source"}))
+      ->capture_default_str();
   audit->add_option("--gpkg", args.gpkg,
                     "also write the input features in their own CRS, with their attributes and every CSV column, "
                     "as a GeoPackage layer (named after the file)");

@@ -376,6 +376,31 @@ TEST_F(GdalIoTest, GeoPackageOutputToStandardOutputIsRefused) {
   EXPECT_THAT(r.err, HasSubstr("a file name is needed"));
 }
 
+TEST_F(GdalIoTest, GeoJsonInTheSourceCrsIsPlacedByGdal) {
+  // --geojson-crs source writes the 2008-style "crs" member; GDAL's GeoJSON driver reads the layer's SRS from it.
+  spit(path("one.csv"), "id,wkt\nB-1,\"POINT (370000 4885000)\"\n");
+  const std::string out = path("b.geojson");
+  const CliRun r = audit({path("one.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:26915", "--geojson", out,
+                          "--geojson-crs", "source"});
+  ASSERT_EQ(r.status, 0) << r.err;
+  GDALAllRegister();
+  GDALDatasetH ds = GDALOpenEx(out.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr, nullptr);
+  ASSERT_NE(ds, nullptr);
+  OGRLayerH layer = GDALDatasetGetLayer(ds, 0);
+  OGRSpatialReferenceH srs = OGR_L_GetSpatialRef(layer);
+  ASSERT_NE(srs, nullptr);
+  EXPECT_STREQ(OSRGetAuthorityName(srs, nullptr), "EPSG");
+  EXPECT_STREQ(OSRGetAuthorityCode(srs, nullptr), "26915");
+  OGRFeatureH f = OGR_L_GetNextFeature(layer);
+  ASSERT_NE(f, nullptr);
+  OGRGeometryH g = OGR_F_GetGeometryRef(f);
+  ASSERT_NE(g, nullptr);
+  EXPECT_EQ(OGR_G_GetX(g, 0), 370000);
+  EXPECT_EQ(OGR_G_GetY(g, 0), 4885000);
+  OGR_F_Destroy(f);
+  GDALClose(ds);
+}
+
 #else
 TEST(GdalIoTest, BuiltWithoutGdal) { GTEST_SKIP() << "this build has no GDAL (GRIDTRUTH_WITH_GDAL)"; }
 #endif

@@ -99,16 +99,33 @@ class ReportCollector {
   std::unique_ptr<Impl> impl_;
 };
 
-/// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as read
-/// (in the source CRS; a CRS other than longitude/latitude on WGS 84 is not what RFC 7946 expects, and GIS
-/// software then needs to be told the CRS), and as properties every column ResultCsvWriter writes for the
-/// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings. The input's own
-/// attributes (InputFeature::properties_json) come first; one whose name is also a column's is kept as
-/// "input_<name>".
+/// The coordinates ResultGeoJsonWriter writes.
+enum class GeoJsonCoordinates {
+  /// Longitude and latitude on WGS 84, in degrees, as RFC 7946 section 4 requires: a source CRS that is not
+  /// WGS 84 longitude/latitude is transformed by PROJ (its default operation, chosen per vertex among those whose
+  /// area of use holds it; its accuracy is PROJ's, e.g. about 2 m from NAD83 with no grid).
+  wgs84,
+  /// The coordinates as read, in the source CRS, named by a "crs" member of type "name" (GeoJSON 2008
+  /// specification, section 3.1.1, which RFC 7946 dropped but GDAL and other GIS software still read):
+  /// "urn:ogc:def:crs:EPSG::n" for an EPSG CRS, else the definition as given.
+  source,
+};
+
+/// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as
+/// GeoJsonCoordinates says, and as properties every column ResultCsvWriter writes for the feature, under the same
+/// names: numbers as JSON numbers, empty cells as null, text as strings. The input's own attributes
+/// (InputFeature::properties_json) come first; one whose name is also a column's is kept as "input_<name>".
+/// A feature with a vertex PROJ cannot transform gets a null geometry and the property "geometry_note" saying so.
 class ResultGeoJsonWriter {
  public:
-  /// Writes to `out`, which must outlive the writer.
+  /// Writes to `out`, which must outlive the writer, the coordinates as read (no CRS named, no transformation:
+  /// RFC 7946 only when the input is WGS 84 longitude/latitude).
   explicit ResultGeoJsonWriter(std::ostream& out);
+  /// Writes to `out` features whose geometries are in `source_crs` (any definition describe_crs() takes), with
+  /// the coordinates `coordinates` asks for. Throws Error(unknown_crs) for a CRS PROJ cannot resolve,
+  /// Error(no_transformation) when PROJ has no operation to WGS 84.
+  ResultGeoJsonWriter(std::ostream& out, const std::string& source_crs,
+                      GeoJsonCoordinates coordinates = GeoJsonCoordinates::wgs84);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// One audited feature.
@@ -124,7 +141,10 @@ class ResultGeoJsonWriter {
   ResultGeoJsonWriter& operator=(const ResultGeoJsonWriter&) = delete;
 
  private:
-  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json);
+  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json,
+                        const char* geometry_note = nullptr);
+  struct Transform;
+  std::unique_ptr<Transform> transform_;  // source CRS → WGS 84 longitude/latitude; null: coordinates as read
   std::ostream* out_;
   bool combined_factor_ = false;
   bool first_ = true;
@@ -168,6 +188,5 @@ class ResultGeoPackageWriter {
   struct Impl;
   std::unique_ptr<Impl> impl_;
 };
-
 
 }  // namespace gridtruth
