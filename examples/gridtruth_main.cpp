@@ -8,6 +8,8 @@
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
+#include <algorithm>
+#include <nlohmann/json.hpp>
 #include <chrono>
 #include <cctype>
 #include <cerrno>
@@ -65,6 +67,7 @@ struct AuditArgs {
   std::string geojson_crs = "wgs84";
   std::string gpkg;
   std::string units = "metric";
+  std::string keep_fields;  // "a,b" or "all"
   std::string format = "auto";
   unsigned threads = 0;
   bool repair = false;
@@ -76,6 +79,79 @@ std::string gpkg_layer_name(const std::string& path) {
   if (const auto dot = name.rfind('.'); dot != std::string::npos && dot > 0) name.erase(dot);
   return name.empty() ? std::string("audit") : name;
 }
+
+/// The CSV's columns after the audit table's: the lengths and areas in the --units unit, then the input
+/// attributes --keep-fields names (a name an audit column has is kept as input_<name>, as --geojson does).
+class ExtraColumns {
+ public:
+  /// `keep`: "" (none), "all" (the attributes of `first`, the first feature read) or comma-separated names.
+  ExtraColumns(const cli::SummaryUnits& units, const std::string& keep, const InputFeature* first,
+               bool combined_factor) {
+    auto suffix = [](const std::string& symbol) {
+      if (symbol == "ac") return std::string("ac");
+      if (symbol == "acUS") return std::string("us_ac");
+      if (symbol == "ftUS") return std::string("us_ft");
+      return symbol;  // "ha", "ft"
+    };
+    if (units.length_m != 1) {
+      length_m_ = units.length_m;
+      for (const char* base : {"true_length_", "grid_length_", "length_error_"})
+        names_.push_back(base + suffix(units.length_unit));
+    }
+    if (units.area_m2 != 1) {
+      area_m2_ = units.area_m2;
+      for (const char* base : {"true_area_", "grid_area_", "area_error_"}) names_.push_back(base + suffix(units.area_unit));
+    }
+    std::vector<std::string> fields;
+    if (keep == "all") {
+      if (first && !first->properties_json.empty()) {
+        const auto properties = nlohmann::ordered_json::parse(first->properties_json, nullptr, false);
+        if (properties.is_object())
+          for (const auto& item : properties.items()) fields.push_back(item.key());
+      }
+    } else {
+      for (std::size_t start = 0; start <= keep.size() && !keep.empty();) {
+        const std::size_t comma = std::min(keep.find(',', start), keep.size());
+        if (comma > start) fields.push_back(keep.substr(start, comma - start));
+        start = comma + 1;
+      }
+    }
+    const auto& columns = result_columns(combined_factor);
+    for (const std::string& field : fields) {
+      bool clash = std::find(names_.begin(), names_.end(), field) != names_.end();
+      for (const ResultColumn& c : columns) clash = clash || c.name == field;
+      keys_.push_back(field);
+      names_.push_back(clash ? "input_" + field : field);
+    }
+  }
+  const std::vector<std::string>& names() const { return names_; }
+
+  /// The extra cells of one row (`result` null: a feature that could not be read).
+  void cells(const InputFeature& feature, const AuditResult* result, std::vector<std::string>& out) const {
+    out.clear();
+    auto budget = [&](const std::optional<Budget>& b, double unit) {
+      for (const double v : {b ? b->reference : NAN, b ? b->grid : NAN, b ? b->error : NAN})
+        out.push_back(format_number(v / unit));
+    };
+    if (length_m_) budget(result ? result->length : std::nullopt, length_m_);
+    if (area_m2_) budget(result ? result->area : std::nullopt, area_m2_);
+    if (keys_.empty()) return;
+    const auto properties = feature.properties_json.empty()
+                                ? nlohmann::ordered_json()
+                                : nlohmann::ordered_json::parse(feature.properties_json, nullptr, false);
+    for (const std::string& key : keys_) {
+      const auto found = properties.is_object() ? properties.find(key) : properties.end();
+      if (!properties.is_object() || found == properties.end() || found->is_null()) out.emplace_back();
+      else if (found->is_string()) out.push_back(found->get<std::string>());
+      else if (found->is_number_float()) out.push_back(format_number(found->get<double>()));
+      else out.push_back(found->dump());
+    }
+  }
+
+ private:
+  std::vector<std::string> names_, keys_;
+  double length_m_ = 0, area_m2_ = 0;  // 0: no such columns
+};
 
 /// One line on standard error: the reason the run could not go on.
 int fail_run(const std::string& reason) {
@@ -208,7 +284,8 @@ int run_audit(const AuditArgs& args) {
       throw cli::OutputError(e.what());
     }
   };
-  auto open_outputs = [&] {
+  std::optional<ExtraColumns> extra;
+  auto open_outputs = [&](const InputFeature* first) {
     out_file = std::make_unique<cli::OutputFile>(args.out);
     if (!args.summary.empty()) summary_file = std::make_unique<cli::OutputFile>(args.summary);
     // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
@@ -230,6 +307,8 @@ int run_audit(const AuditArgs& args) {
     }
     writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
+    extra.emplace(units, args.keep_fields, first, with_heights);
+    writer->with_extra_columns(extra->names());
     writer->write_header();
   };
 
@@ -250,7 +329,7 @@ int run_audit(const AuditArgs& args) {
   run_options.threads = args.threads;
   try {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
-      if (!writer) open_outputs();
+      if (!writer) open_outputs(&feature);
       if (feature.geometry) {
         std::optional<AuditResult> annotated;
         if (!result.failed.empty()) {
@@ -258,12 +337,14 @@ int run_audit(const AuditArgs& args) {
           annotated->message = row_message(result);
         }
         const AuditResult& row = annotated ? *annotated : result;
+        extra->cells(feature, &row, writer->extra_cells());
         writer->write_row(feature.id, row);
         if (gpkg) as_output_error([&] { gpkg->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
         summary.add(feature, result);
         if (report) report->add(feature.id, *feature.geometry, result);
         if (geojson) geojson->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
       } else {
+        extra->cells(feature, nullptr, writer->extra_cells());
         writer->write_unread_row(feature.id, feature.error, feature.declared_type);
         summary.add_unread(feature);
         if (report) report->add_unread(feature.id);
@@ -275,7 +356,7 @@ int run_audit(const AuditArgs& args) {
       }
       progress.update(summary.read());
     });
-    if (!writer) open_outputs();  // an input without features still gets its header line
+    if (!writer) open_outputs(nullptr);  // an input without features still gets its header line
   } catch (const cli::OutputError& e) {
     progress.finish();
     return fail_run(e.what());
@@ -370,11 +451,14 @@ const char* audit_footer =
     "  attributes, then every CSV column (numbers as Real, counts as Integer, empty cells as NULL); an input\n"
     "  attribute named like a column is kept as input_<name>; a feature that could not be read has no geometry.\n"
     "\n"
-    "Summary units (--units; the CSV stays in SI units):\n"
-    "  metric           m, m2\n"
-    "  hectare          m, ha (10 000 m2)\n"
-    "  acre             international foot (0.3048 m), international acre (4 046.856 422 4 m2)\n"
-    "  us-survey-acre   US survey foot (1200/3937 m), US survey acre (4 046.872 609 874 m2)\n"
+    "Units (--units): the summary's totals, and CSV columns beside the SI ones (after them, in the order shown):\n"
+    "  metric           m, m2                                           (no extra columns)\n"
+    "  hectare          m, ha (10 000 m2)                               true_area_ha, grid_area_ha, area_error_ha\n"
+    "  acre             international foot (0.3048 m) and acre          true_length_ft, grid_length_ft,\n"
+    "                   (4 046.856 422 4 m2)                            length_error_ft, true_area_ac, ...\n"
+    "  us-survey-acre   US survey foot (1200/3937 m) and acre           true_length_us_ft, ..., true_area_us_ac,\n"
+    "                   (4 046.872 609 874 252 m2)                      grid_area_us_ac, area_error_us_ac\n"
+    "Input attributes (--keep-fields a,b | all): CSV columns after those; missing or null: an empty cell.\n"
     "\n"
     "CRS files: without --trusted-crs, grid and init files named by a CRS (+nadgrids=, +grids=, +geoidgrids=,\n"
     "  +init=) are opened only when they are regular files inside PROJ's data directories.\n"
@@ -459,7 +543,11 @@ int main(int argc, char** argv) {
   audit->add_option("--gpkg", args.gpkg,
                     "also write the input features in their own CRS, with their attributes and every CSV column, "
                     "as a GeoPackage layer (named after the file)");
-  audit->add_option("--units", args.units, "units of the summary's totals")
+  audit->add_option("--keep-fields", args.keep_fields,
+                    "input attributes to add to the CSV after the audit columns: comma-separated names, or 'all' "
+                    "(those of the first feature); a name an audit column has becomes input_<name>");
+  audit->add_option("--units", args.units,
+                    "units of the summary's totals, and of extra CSV columns (true_area_ac, ...) beside the SI ones")
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();
   audit->add_option("--format", args.format, "input format")
