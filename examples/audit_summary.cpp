@@ -141,7 +141,7 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                                  {"proj_string", t.proj_string}};
     j["edges"] = a.edges().to_string();
     json tolerances = json::array();
-    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.as_given());
+    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());  // canonical for machines (as the Python summary)
     j["options"] = {{"height_m", a.options().height_m},
                     {"densify_tolerance_m", a.options().densify_tolerance_m},
                     {"tolerances", tolerances}};

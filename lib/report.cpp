@@ -558,7 +558,7 @@ void ReportCollector::Impl::write_caption_lines(std::vector<std::string>& lines)
   if (tr.is_ballpark) datum += " (ballpark only)";
   lines.push_back(datum);
   std::string tol;
-  for (const auto& x : auditor.options().tolerances) tol += (tol.empty() ? "" : ", ") + x.as_given();
+  for (const auto& x : auditor.options().tolerances) tol += (tol.empty() ? "" : ", ") + x.to_string();
   lines.push_back("Edges: " + auditor.edges().to_string() + "   Tolerance: " + (tol.empty() ? "none" : tol) +
                   "   Height: " + fmt(auditor.options().height_m, 1) + " m (unless given per feature)");
   lines.push_back("Features: " + std::to_string(read) + " read, " + std::to_string(ok) + " ok, " +
