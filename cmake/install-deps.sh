@@ -5,6 +5,7 @@ set -euo pipefail
 packages=(
   build-essential cmake ninja-build pkg-config
   libgeographiclib-dev libproj-dev proj-data proj-bin libtbb-dev libgdal-dev
+  gdal-bin                 # tests: ogrinfo checks the GeoPackage written by --gpkg
   libboost-dev libfmt-dev nlohmann-json3-dev libsimdjson-dev libcli11-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   doxygen

@@ -20,13 +20,13 @@ const std::vector<std::string>& summary_unit_names() {
 
 SummaryUnits summary_units(std::string_view name) {
   // Area units. The international foot is 0.3048 m exactly, so the international acre (43 560 ft²) is
-  // 4 046.856 422 4 m² exactly. The US survey foot is 1200/3937 m, and the US survey acre 4 046.872 609 874 m²
-  // (to the digits published by NIST; the US survey foot was deprecated from 2023 by the notice in the Federal
+  // 4 046.856 422 4 m² exactly. The US survey foot is 1200/3937 m, and the US survey acre 43 560 US survey ft²,
+  // 4 046.872 609 874 252 m² (NIST Handbook 44, appendix C; NIST SP 811, appendix B; the US survey foot was deprecated from 2023 by the notice in the Federal
   // Register, 85 FR 62698 (5 October 2020), "Deprecation of the United States (U.S.) Survey Foot").
   if (name == "metric") return {"metric", "m", "m2", 1.0, 1.0};
   if (name == "hectare") return {"hectare", "m", "ha", 1.0, 1e4};
   if (name == "acre") return {"acre", "ft", "ac", 0.3048, 4046.8564224};
-  if (name == "us-survey-acre") return {"us-survey-acre", "ftUS", "acUS", 1200.0 / 3937.0, 4046.872609874};
+  if (name == "us-survey-acre") return {"us-survey-acre", "ftUS", "acUS", 1200.0 / 3937.0, 4046.872609874252};
   throw Error(ErrorCode::invalid_argument,
               "unknown units \"" + std::string(name) + "\" (expected metric, hectare, acre or us-survey-acre)");
 }
@@ -141,7 +141,7 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                                  {"proj_string", t.proj_string}};
     j["edges"] = a.edges().to_string();
     json tolerances = json::array();
-    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());
+    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());  // canonical for machines (as the Python summary)
     j["options"] = {{"height_m", a.options().height_m},
                     {"densify_tolerance_m", a.options().densify_tolerance_m},
                     {"tolerances", tolerances}};
@@ -219,7 +219,7 @@ std::string AuditSummary::to_text(const Context& c) const {
     s << "\n";
     s << "  edges:        " << a.edges().to_string() << "\n";
     std::string tolerances;
-    for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.to_string();
+    for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.as_given();
     s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";
   }
   s << "  features:     " << read_ << " read, " << ok_ << " ok, " << invalid_ << " invalid, " << unmeasurable_

@@ -8,6 +8,8 @@
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
+#include <algorithm>
+#include <nlohmann/json.hpp>
 #include <chrono>
 #include <cctype>
 #include <cerrno>
@@ -62,11 +64,94 @@ struct AuditArgs {
   std::string summary;
   std::string report;
   std::string geojson;
+  std::string geojson_crs = "wgs84";
+  std::string gpkg;
   std::string units = "metric";
+  std::string keep_fields;  // "a,b" or "all"
   std::string format = "auto";
   unsigned threads = 0;
   bool repair = false;
   bool bounds = false;
+};
+
+/// The GeoPackage layer's name: the file's name without its directory and extension ("audit" if that is empty).
+std::string gpkg_layer_name(const std::string& path) {
+  std::string name = path.substr(path.rfind('/') == std::string::npos ? 0 : path.rfind('/') + 1);
+  if (const auto dot = name.rfind('.'); dot != std::string::npos && dot > 0) name.erase(dot);
+  return name.empty() ? std::string("audit") : name;
+}
+
+/// The CSV's columns after the audit table's: the lengths and areas in the --units unit, then the input
+/// attributes --keep-fields names (a name an audit column has is kept as input_<name>, as --geojson does).
+class ExtraColumns {
+ public:
+  /// `keep`: "" (none), "all" (the attributes of `first`, the first feature read) or comma-separated names.
+  ExtraColumns(const cli::SummaryUnits& units, const std::string& keep, const InputFeature* first,
+               bool combined_factor) {
+    auto suffix = [](const std::string& symbol) {
+      if (symbol == "ac") return std::string("ac");
+      if (symbol == "acUS") return std::string("us_ac");
+      if (symbol == "ftUS") return std::string("us_ft");
+      return symbol;  // "ha", "ft"
+    };
+    if (units.length_m != 1) {
+      length_m_ = units.length_m;
+      for (const char* base : {"true_length_", "grid_length_", "length_error_"})
+        names_.push_back(base + suffix(units.length_unit));
+    }
+    if (units.area_m2 != 1) {
+      area_m2_ = units.area_m2;
+      for (const char* base : {"true_area_", "grid_area_", "area_error_"}) names_.push_back(base + suffix(units.area_unit));
+    }
+    std::vector<std::string> fields;
+    if (keep == "all") {
+      if (first && !first->properties_json.empty()) {
+        const auto properties = nlohmann::ordered_json::parse(first->properties_json, nullptr, false);
+        if (properties.is_object())
+          for (const auto& item : properties.items()) fields.push_back(item.key());
+      }
+    } else {
+      for (std::size_t start = 0; start <= keep.size() && !keep.empty();) {
+        const std::size_t comma = std::min(keep.find(',', start), keep.size());
+        if (comma > start) fields.push_back(keep.substr(start, comma - start));
+        start = comma + 1;
+      }
+    }
+    const auto& columns = result_columns(combined_factor);
+    for (const std::string& field : fields) {
+      bool clash = std::find(names_.begin(), names_.end(), field) != names_.end();
+      for (const ResultColumn& c : columns) clash = clash || c.name == field;
+      keys_.push_back(field);
+      names_.push_back(clash ? "input_" + field : field);
+    }
+  }
+  const std::vector<std::string>& names() const { return names_; }
+
+  /// The extra cells of one row (`result` null: a feature that could not be read).
+  void cells(const InputFeature& feature, const AuditResult* result, std::vector<std::string>& out) const {
+    out.clear();
+    auto budget = [&](const std::optional<Budget>& b, double unit) {
+      for (const double v : {b ? b->reference : NAN, b ? b->grid : NAN, b ? b->error : NAN})
+        out.push_back(format_number(v / unit));
+    };
+    if (length_m_) budget(result ? result->length : std::nullopt, length_m_);
+    if (area_m2_) budget(result ? result->area : std::nullopt, area_m2_);
+    if (keys_.empty()) return;
+    const auto properties = feature.properties_json.empty()
+                                ? nlohmann::ordered_json()
+                                : nlohmann::ordered_json::parse(feature.properties_json, nullptr, false);
+    for (const std::string& key : keys_) {
+      const auto found = properties.is_object() ? properties.find(key) : properties.end();
+      if (!properties.is_object() || found == properties.end() || found->is_null()) out.emplace_back();
+      else if (found->is_string()) out.push_back(found->get<std::string>());
+      else if (found->is_number_float()) out.push_back(format_number(found->get<double>()));
+      else out.push_back(found->dump());
+    }
+  }
+
+ private:
+  std::vector<std::string> names_, keys_;
+  double length_m_ = 0, area_m2_ = 0;  // 0: no such columns
 };
 
 /// One line on standard error: the reason the run could not go on.
@@ -150,7 +235,7 @@ int run_audit(const AuditArgs& args) {
   reader_options.layer = args.layer;
 
   std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
-  for (const std::string* path : {&args.summary, &args.report, &args.geojson})
+  for (const std::string* path : {&args.summary, &args.report, &args.geojson, &args.gpkg})
     if (!path->empty()) outputs.push_back(*path);
   if (const std::string problem = cli::same_file_problem({args.input}, outputs); !problem.empty())
     return fail_run(problem);
@@ -188,22 +273,44 @@ int run_audit(const AuditArgs& args) {
 
   // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
   // each is written under a temporary name and renamed into place once complete (examples/output_file.hpp).
-  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file;
+  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file, gpkg_file;
   std::optional<ResultCsvWriter> writer;
   std::optional<ResultGeoJsonWriter> geojson;
-  auto open_outputs = [&] {
+  std::optional<ResultGeoPackageWriter> gpkg;
+  // The GeoPackage (GDAL) and the GeoJSON transformation (PROJ): their errors are an output's, not the input's.
+  auto as_output_error = [&](auto write) {
+    try {
+      write();
+    } catch (const Error& e) {
+      throw cli::OutputError(e.what());
+    }
+  };
+  std::optional<ExtraColumns> extra;
+  auto open_outputs = [&](const InputFeature* first) {
     out_file = std::make_unique<cli::OutputFile>(args.out);
     if (!args.summary.empty()) summary_file = std::make_unique<cli::OutputFile>(args.summary);
     // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
     if (!args.report.empty()) report_file = std::make_unique<cli::OutputFile>(args.report);
     if (!args.geojson.empty()) {
       geojson_file = std::make_unique<cli::OutputFile>(args.geojson);
-      geojson.emplace(geojson_file->stream());
+      as_output_error([&] {
+        geojson.emplace(geojson_file->stream(), options.source_crs,
+                        args.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
+      });
       geojson->with_combined_factor(with_heights);
+    }
+    if (!args.gpkg.empty()) {
+      gpkg_file = cli::OutputFile::for_named_writer(args.gpkg, ".gpkg");
+      as_output_error([&] {
+        gpkg.emplace(gpkg_file->temp_path(), options.source_crs, gpkg_layer_name(args.gpkg));
+        gpkg->with_combined_factor(with_heights);
+      });
     }
     writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
     writer->with_bounds(args.bounds);
+    extra.emplace(units, args.keep_fields, first, with_heights);
+    writer->with_extra_columns(extra->names());
     writer->write_header();
   };
 
@@ -224,27 +331,34 @@ int run_audit(const AuditArgs& args) {
   run_options.threads = args.threads;
   try {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
-      if (!writer) open_outputs();
+      if (!writer) open_outputs(&feature);
       if (feature.geometry) {
-        if (result.failed.empty()) {
-          writer->write_row(feature.id, result);
-        } else {
-          AuditResult annotated = result;
-          annotated.message = row_message(result);
-          writer->write_row(feature.id, annotated);
+        std::optional<AuditResult> annotated;
+        if (!result.failed.empty()) {
+          annotated = result;
+          annotated->message = row_message(result);
         }
+        const AuditResult& row = annotated ? *annotated : result;
+        extra->cells(feature, &row, writer->extra_cells());
+        writer->write_row(feature.id, row);
+        if (gpkg) as_output_error([&] { gpkg->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
         summary.add(feature, result);
         if (report) report->add(feature.id, *feature.geometry, result);
         if (geojson) geojson->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
       } else {
+        extra->cells(feature, nullptr, writer->extra_cells());
         writer->write_unread_row(feature.id, feature.error, feature.declared_type);
         summary.add_unread(feature);
         if (report) report->add_unread(feature.id);
         if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+        if (gpkg)
+          as_output_error([&] {
+            gpkg->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+          });
       }
       progress.update(summary.read());
     });
-    if (!writer) open_outputs();  // an input without features still gets its header line
+    if (!writer) open_outputs(nullptr);  // an input without features still gets its header line
   } catch (const cli::OutputError& e) {
     progress.finish();
     return fail_run(e.what());
@@ -265,15 +379,16 @@ int run_audit(const AuditArgs& args) {
   const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units, &problems};
   try {
     if (geojson) geojson->finish();
+    if (gpkg) as_output_error([&] { gpkg->finish(); });
     if (report) {
       if (report_html) report->write_html(report_file->stream());
       else report->write_svg(report_file->stream());
     }
     if (summary_file) summary_file->stream() << summary.to_json(context).dump(2) << "\n";
     // Every file is complete before the first is renamed into place.
-    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
       if (*file) (*file)->finish();
-    for (auto* file : {&out_file, &geojson_file, &report_file, &summary_file})
+    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
       if (*file) (*file)->commit();
   } catch (const cli::OutputError& e) {
     return fail_run(e.what());
@@ -331,14 +446,21 @@ const char* audit_footer =
     "  understates, orange to brown: it overstates), over isolines of the projection's scale with the line of\n"
     "  true scale dashed and the CRS's area of use outlined; beside it a histogram of ppm with the tolerances,\n"
     "  the budget parts of the worst features, and a caption. The HTML page holds the same picture and the\n"
-    "  summary tables; neither needs a network or a script. --geojson writes the features as read, with every\n"
-    "  CSV column in their properties.\n"
+    "  summary tables; neither needs a network or a script. --geojson writes the features with every CSV column\n"
+    "  in their properties, in WGS 84 longitude/latitude as RFC 7946 requires (transformed by PROJ from another\n"
+    "  source CRS), or with --geojson-crs source as read, the CRS named by a 2008-style \"crs\" member.\n"
+    "GeoPackage (--gpkg FILE.gpkg): one layer named after the file, the features in the source CRS, the input's\n"
+    "  attributes, then every CSV column (numbers as Real, counts as Integer, empty cells as NULL); an input\n"
+    "  attribute named like a column is kept as input_<name>; a feature that could not be read has no geometry.\n"
     "\n"
-    "Summary units (--units; the CSV stays in SI units):\n"
-    "  metric           m, m2\n"
-    "  hectare          m, ha (10 000 m2)\n"
-    "  acre             international foot (0.3048 m), international acre (4 046.856 422 4 m2)\n"
-    "  us-survey-acre   US survey foot (1200/3937 m), US survey acre (4 046.872 609 874 m2)\n"
+    "Units (--units): the summary's totals, and CSV columns beside the SI ones (after them, in the order shown):\n"
+    "  metric           m, m2                                           (no extra columns)\n"
+    "  hectare          m, ha (10 000 m2)                               true_area_ha, grid_area_ha, area_error_ha\n"
+    "  acre             international foot (0.3048 m) and acre          true_length_ft, grid_length_ft,\n"
+    "                   (4 046.856 422 4 m2)                            length_error_ft, true_area_ac, ...\n"
+    "  us-survey-acre   US survey foot (1200/3937 m) and acre           true_length_us_ft, ..., true_area_us_ac,\n"
+    "                   (4 046.872 609 874 252 m2)                      grid_area_us_ac, area_error_us_ac\n"
+    "Input attributes (--keep-fields a,b | all): CSV columns after those; missing or null: an empty cell.\n"
     "\n"
     "CRS files: without --trusted-crs, grid and init files named by a CRS (+nadgrids=, +grids=, +geoidgrids=,\n"
     "  +init=) are opened only when they are regular files inside PROJ's data directories.\n"
@@ -418,7 +540,19 @@ int main(int argc, char** argv) {
                     "tables)");
   audit->add_option("--geojson", args.geojson,
                     "also write the input features with every CSV column in their properties, as GeoJSON");
-  audit->add_option("--units", args.units, "units of the summary's totals")
+  audit->add_option("--geojson-crs", args.geojson_crs,
+                    "coordinates of --geojson: wgs84 (longitude, latitude, RFC 7946; transformed when the input "
+                    "is in another CRS) or source (as read, the CRS named by a \"crs\" member)")
+      ->check(CLI::IsMember({"wgs84", "source"}))
+      ->capture_default_str();
+  audit->add_option("--gpkg", args.gpkg,
+                    "also write the input features in their own CRS, with their attributes and every CSV column, "
+                    "as a GeoPackage layer (named after the file)");
+  audit->add_option("--keep-fields", args.keep_fields,
+                    "input attributes to add to the CSV after the audit columns: comma-separated names, or 'all' "
+                    "(those of the first feature); a name an audit column has becomes input_<name>");
+  audit->add_option("--units", args.units,
+                    "units of the summary's totals, and of extra CSV columns (true_area_ac, ...) beside the SI ones")
       ->check(CLI::IsMember(cli::summary_unit_names()))
       ->capture_default_str();
   audit->add_option("--format", args.format, "input format")

@@ -158,7 +158,25 @@ struct OutputFile::Impl {
   explicit Impl(int descriptor) : fd(descriptor), buffer(descriptor), stream(&buffer) {}
 };
 
-OutputFile::OutputFile(const std::string& path) : name_(is_stdout(path) ? "standard output" : path) {
+OutputFile::OutputFile(const std::string& path) : OutputFile(path, std::string(), false) {}
+
+std::unique_ptr<OutputFile> OutputFile::for_named_writer(const std::string& path, const std::string& suffix) {
+  std::unique_ptr<OutputFile> file(new OutputFile(path, suffix, true));
+  Impl& s = *file->impl_;
+  if (s.temp_path.empty()) throw OutputError("cannot write " + file->name_ + ": it must be a regular file");
+  // The library creates the file by name (it refuses to overwrite one): the name stays reserved for it, and the
+  // signal handlers still remove whatever it writes there.
+  ::close(s.fd);
+  s.own_fd = false;
+  ::unlink(s.temp_path.c_str());
+  return file;
+}
+
+const std::string& OutputFile::temp_path() const noexcept { return impl_->temp_path; }
+
+OutputFile::OutputFile(const std::string& path, const std::string& temp_suffix, bool named_writer)
+    : name_(is_stdout(path) ? "standard output" : path) {
+  if (is_stdout(path) && named_writer) throw OutputError("cannot write standard output: a file name is needed");
   if (is_stdout(path)) {
     std::cout.flush();  // anything the command wrote to std::cout comes first
     impl_ = std::make_unique<Impl>(STDOUT_FILENO);
@@ -168,6 +186,8 @@ OutputFile::OutputFile(const std::string& path) : name_(is_stdout(path) ? "stand
   struct stat st {};
   const bool exists = ::stat(path.c_str(), &st) == 0;
   if (exists && S_ISDIR(st.st_mode)) throw OutputError("cannot write " + path + ": it is a directory");
+  if (exists && !S_ISREG(st.st_mode) && named_writer)
+    throw OutputError("cannot write " + path + ": it is not a regular file");
   if (exists && !S_ISREG(st.st_mode)) {  // a device or a FIFO: written in place, nothing to rename
     const int fd = ::open(path.c_str(), O_WRONLY | O_CLOEXEC);
     if (fd < 0) throw OutputError("cannot write " + path + ": " + errno_text(errno));
@@ -179,10 +199,10 @@ OutputFile::OutputFile(const std::string& path) : name_(is_stdout(path) ? "stand
     char resolved[PATH_MAX];
     if (::realpath(path.c_str(), resolved) != nullptr) target = resolved;
   }
-  std::string temp = directory_of(target) + "/." + base_of(target) + ".gridtruth-XXXXXX";
+  std::string temp = directory_of(target) + "/." + base_of(target) + ".gridtruth-XXXXXX" + temp_suffix;
   std::vector<char> name(temp.begin(), temp.end());
   name.push_back('\0');
-  const int fd = ::mkostemp(name.data(), O_CLOEXEC);
+  const int fd = ::mkostemps(name.data(), static_cast<int>(temp_suffix.size()), O_CLOEXEC);
   if (fd < 0) throw OutputError("cannot write " + path + ": " + errno_text(errno));
   temp.assign(name.data());
   const mode_t mask = ::umask(0);

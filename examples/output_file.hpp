@@ -28,6 +28,13 @@ class OutputFile {
  public:
   /// Opens the output. Throws OutputError naming the path and the cause.
   explicit OutputFile(const std::string& path);
+  /// Opens the output for a library that creates the file itself by name (GDAL's GeoPackage driver, SQLite):
+  /// the temporary name `.NAME.gridtruth-XXXXXX<suffix>` is reserved, then freed for the library, which writes
+  /// it (temp_path()); commit() renames it over `path`, and an uncommitted one is removed as any other. Only a
+  /// regular file or a path that does not exist yet: anything else (standard output, a device) is OutputError.
+  static std::unique_ptr<OutputFile> for_named_writer(const std::string& path, const std::string& suffix);
+  /// The name the library writes (for_named_writer()); empty for a stream output written in place.
+  const std::string& temp_path() const noexcept;
   ~OutputFile();
   OutputFile(const OutputFile&) = delete;
   OutputFile& operator=(const OutputFile&) = delete;
@@ -47,6 +54,7 @@ class OutputFile {
 
  private:
   [[noreturn]] void fail(int error_number);
+  OutputFile(const std::string& path, const std::string& temp_suffix, bool named_writer);
 
   struct Impl;
   std::unique_ptr<Impl> impl_;

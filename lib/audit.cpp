@@ -1295,7 +1295,7 @@ void Auditor::Impl::apply_verdict(AuditResult& r) const {
       observed = t.kind == Tolerance::Kind::relative_ppm ? b->error_ppm : b->error;
     }
     any = true;
-    if (!(std::fabs(observed) <= t.value)) r.failed.push_back(t.to_string());
+    if (!(std::fabs(observed) <= t.value)) r.failed.push_back(t.as_given());
   }
   if (any) r.verdict = r.failed.empty() ? Verdict::pass : Verdict::fail;
 }

@@ -170,6 +170,12 @@ class CsvReader final : public FormatReader {
                 " (a value holding commas must be in double quotes, RFC 4180 section 2.6)";
       return f;
     }
+    // The record's other columns, kept also when its geometry or height is unusable (the invalid row keeps them).
+    nlohmann::ordered_json properties = nlohmann::ordered_json::object();
+    for (std::size_t k = 0; k < header_.size() && k < r.fields.size(); ++k) {
+      if (k != wkt_column_) properties[header_[k]] = r.fields[k];
+    }
+    f.properties_json = properties.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
     const std::string& wkt = r.fields[wkt_column_];
     if (trim(wkt).empty()) {
       f.error = "line " + std::to_string(r.line) + ": empty geometry cell";
@@ -192,11 +198,6 @@ class CsvReader final : public FormatReader {
       }
       f.height_m = h;
     }
-    nlohmann::ordered_json properties = nlohmann::ordered_json::object();
-    for (std::size_t k = 0; k < header_.size() && k < r.fields.size(); ++k) {
-      if (k != wkt_column_) properties[header_[k]] = r.fields[k];
-    }
-    f.properties_json = properties.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace);
     f.geometry = std::move(g);
     return f;
   }

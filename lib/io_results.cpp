@@ -148,6 +148,7 @@ void ResultCsvWriter::write_header() {
     if (k) *out_ << ',';
     *out_ << columns[k].name;
   }
+  for (const std::string& name : extra_columns_) *out_ << ',' << csv_field(name);
   *out_ << line_ending_;
 }
 
@@ -172,6 +173,10 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
         break;
       case ColumnKind::number: detail::append_number(line, cell.number); break;
     }
+  }
+  for (std::size_t k = 0; k < extra_columns_.size(); ++k) {
+    line += ',';
+    if (k < extra_cells_.size()) append_csv_field(line, extra_cells_[k]);
   }
   line += line_ending_;
   out_->write(line.data(), static_cast<std::streamsize>(line.size()));

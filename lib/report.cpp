@@ -16,7 +16,10 @@
 #include <sstream>
 #include <unordered_map>
 
+#include "gridtruth/crs.hpp"
+#include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "proj_handles.hpp"
 
 namespace gridtruth {
 
@@ -1139,8 +1142,65 @@ void write_geometry(std::ostream& o, const Geometry& g) {
 
 }  // namespace
 
+struct ResultGeoJsonWriter::Transform {
+  detail::Context context = detail::make_context();
+  detail::Pj operation;
+
+  /// The geometry with every vertex in WGS 84 longitude/latitude; false when PROJ cannot transform one.
+  bool apply(Geometry& g) {
+    auto one = [&](Coord& c) {
+      PJ_COORD p = proj_coord(c.x, c.y, 0, 0);
+      p = proj_trans(operation.get(), PJ_FWD, p);
+      if (!std::isfinite(p.xy.x) || !std::isfinite(p.xy.y)) return false;
+      c = {p.xy.x, p.xy.y};
+      return true;
+    };
+    auto path = [&](Path& ps) {
+      for (Coord& c : ps)
+        if (!one(c)) return false;
+      return true;
+    };
+    if (!path(g.points)) return false;
+    for (Path& l : g.lines)
+      if (!path(l)) return false;
+    for (Polygon& p : g.polygons) {
+      if (!path(p.outer)) return false;
+      for (Path& h : p.holes)
+        if (!path(h)) return false;
+    }
+    return true;
+  }
+};
+
 ResultGeoJsonWriter::ResultGeoJsonWriter(std::ostream& out) : out_(&out) {
   *out_ << "{\"type\":\"FeatureCollection\",\"features\":[";
+}
+
+ResultGeoJsonWriter::ResultGeoJsonWriter(std::ostream& out, const std::string& source_crs,
+                                         GeoJsonCoordinates coordinates)
+    : out_(&out) {
+  // WGS 84 longitude/latitude already (EPSG:4326 and OGC:CRS84 differ only in axis order, which gridtruth's
+  // coordinates do not follow: x is always the longitude): nothing to transform, nothing to name.
+  const bool wgs84 = same_crs(source_crs, "EPSG:4326");
+  std::string crs_member;
+  if (!wgs84 && coordinates == GeoJsonCoordinates::source) {
+    const CrsInfo info = describe_crs(source_crs);
+    std::string name = source_crs;
+    if (info.id.rfind("EPSG:", 0) == 0) name = "urn:ogc:def:crs:EPSG::" + info.id.substr(5);
+    crs_member = ",\"crs\":{\"type\":\"name\",\"properties\":{\"name\":" + nlohmann::json(name).dump() + "}}";
+  } else if (!wgs84) {
+    auto t = std::make_unique<Transform>();
+    PJ_CONTEXT* c = t->context.get();
+    detail::Pj from = detail::resolve_crs(c, source_crs);
+    detail::Pj to = detail::resolve_crs(c, "EPSG:4326");
+    detail::Pj raw(proj_create_crs_to_crs_from_pj(c, from.get(), to.get(), nullptr, nullptr));
+    if (raw) t->operation.reset(proj_normalize_for_visualization(c, raw.get()));
+    if (!t->operation)
+      throw Error(ErrorCode::no_transformation,
+                  "cannot transform " + source_crs + " to WGS 84 for GeoJSON: " + detail::last_error(c));
+    transform_ = std::move(t);
+  }
+  *out_ << "{\"type\":\"FeatureCollection\"" << crs_member << ",\"features\":[";
 }
 
 ResultGeoJsonWriter::~ResultGeoJsonWriter() {
@@ -1157,7 +1217,7 @@ void ResultGeoJsonWriter::finish() {
 }
 
 void ResultGeoJsonWriter::write_properties(std::string_view id, const std::string& csv_row,
-                                           std::string_view input_properties_json) {
+                                           std::string_view input_properties_json, const char* geometry_note) {
   static const std::vector<std::string> text_columns = {"id", "geometry_type", "status", "message", "verdict"};
   std::vector<std::string> names = ResultCsvWriter::columns();
   if (combined_factor_) names.push_back("combined_factor");
@@ -1189,6 +1249,7 @@ void ResultGeoJsonWriter::write_properties(std::string_view id, const std::strin
       }
     }
   }
+  if (geometry_note) props["geometry_note"] = geometry_note;
   *out_ << (first_ ? "\n" : ",\n") << "{\"type\":\"Feature\",\"id\":" << nlohmann::json(std::string(id)).dump()
         << ",\"properties\":" << props.dump() << ",\"geometry\":";
   first_ = false;
@@ -1200,8 +1261,17 @@ void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geo
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
   csv.write_row(id, result);
-  write_properties(id, row.str(), input_properties_json);
-  write_geometry(*out_, geometry);
+  if (!transform_) {
+    write_properties(id, row.str(), input_properties_json);
+    write_geometry(*out_, geometry);
+  } else if (Geometry lonlat = geometry; transform_->apply(lonlat)) {
+    write_properties(id, row.str(), input_properties_json);
+    write_geometry(*out_, lonlat);
+  } else {
+    write_properties(id, row.str(), input_properties_json,
+                     "a vertex could not be transformed to WGS 84 longitude/latitude (RFC 7946)");
+    *out_ << "null";
+  }
   *out_ << '}';
 }
 
@@ -1214,5 +1284,21 @@ void ResultGeoJsonWriter::write_unread(std::string_view id, std::string_view mes
   write_properties(id, row.str(), input_properties_json);
   *out_ << "null}";
 }
+
+#ifndef GRIDTRUTH_WITH_GDAL
+// Without GDAL (lib/gdal/gpkg_writer.cpp is not built): the writer exists, and says why it cannot work.
+struct ResultGeoPackageWriter::Impl {};
+ResultGeoPackageWriter::ResultGeoPackageWriter(const std::string& path, const std::string&, const std::string&) {
+  throw Error(ErrorCode::io, "cannot write the GeoPackage " + path +
+                                 ": this build of gridtruth has no GDAL (install Debian's libgdal-dev and configure "
+                                 "again, GRIDTRUTH_WITH_GDAL)");
+}
+ResultGeoPackageWriter::~ResultGeoPackageWriter() = default;
+void ResultGeoPackageWriter::with_combined_factor(bool) noexcept {}
+void ResultGeoPackageWriter::write_feature(std::string_view, const Geometry&, const AuditResult&, std::string_view) {}
+void ResultGeoPackageWriter::write_unread(std::string_view, std::string_view, std::optional<GeometryType>,
+                                          std::string_view) {}
+void ResultGeoPackageWriter::finish() {}
+#endif
 
 }  // namespace gridtruth

@@ -139,6 +139,7 @@ Tolerance Tolerance::parse(std::string_view spec) {
     if (!std::isfinite(n) || !(n > 0)) fail(spec, "N in 1:N must be a positive number");
     t.kind = Kind::relative_ppm;
     t.value = 1e6 / n;
+    t.ratio_n = n;
     if (!(t.value > 0) || !std::isfinite(t.value)) fail(spec, "N in 1:N is out of range");
     return t;
   }
@@ -203,6 +204,11 @@ std::string Tolerance::to_string() const {
     }
   }
   return text;
+}
+
+std::string Tolerance::as_given() const {
+  if (!(ratio_n > 0) || kind != Kind::relative_ppm) return to_string();
+  return std::string(metric_name(metric)) + "<=1:" + format_value(ratio_n);
 }
 
 std::string_view to_string(Verdict v) noexcept {

@@ -642,10 +642,15 @@ TEST_F(CliTest, UnitsConvertTheSummaryTotals) {
   EXPECT_NEAR(ac["totals"]["true_length"].get<double>(), length_m / 0.3048, 1e-9 * length_m);
   EXPECT_NEAR(us["totals"]["true_length"].get<double>(), length_m * 3937 / 1200, 1e-9 * length_m);
   EXPECT_EQ(ha["totals"]["area_error_ppm"], m["totals"]["area_error_ppm"]);  // ppm has no unit
-  // The CSV stays in SI units whatever --units says.
+  // The CSV's SI columns stay as they are whatever --units says; the unit's columns follow them (issue 14: six
+  // for acres, checked against the SI ones in KeptFieldsAndUnitColumnsFollowTheAuditColumns).
   const CliRun a = audit({demo_geojson, "--crs", "EPSG:32615", "--units", "acre"});
   const CliRun b = audit({demo_geojson, "--crs", "EPSG:32615"});
-  EXPECT_EQ(a.out, b.out);
+  ASSERT_EQ(a.rows.size(), b.rows.size());
+  for (std::size_t k = 0; k < a.rows.size(); ++k) {
+    ASSERT_EQ(a.rows[k].size(), b.rows[k].size() + 6) << k;
+    EXPECT_EQ(std::vector<std::string>(a.rows[k].begin(), a.rows[k].begin() + b.rows[k].size()), b.rows[k]) << k;
+  }
   EXPECT_THAT(a.err, HasSubstr(" ac"));
 }
 
@@ -1080,4 +1085,78 @@ TEST_F(CliTest, AreaOfUseMarginIsAnOption) {
                   "--area-of-use-margin");
   expect_unusable(audit_text("f.geojson", input, {"--crs", "EPSG:32615", "--area-of-use-margin", "wide"}),
                   "--area-of-use-margin");
+}
+
+TEST_F(CliTest, KeptFieldsAndUnitColumnsFollowTheAuditColumns) {
+  // Issue 14: --keep-fields adds input attributes after the audit columns (a clash keeps the input's as
+  // input_<name>, a missing attribute is an empty cell); --units adds the lengths and areas in that unit.
+  // Acre = 43 560 ft²: the international acre is 4 046.856 422 4 m², the US survey acre 4 046.872 609 874 252 m²
+  // (NIST Handbook 44, appendix C; NIST SP 811, 2008, appendix B.8); the international foot 0.3048 m, the
+  // US survey foot 1200/3937 m (same sources).
+  spit(path("plots.csv"),
+       "id,name,status,wkt\n"
+       "A-1,south field,leased,\"POLYGON ((370000 4885000,372000 4885000,372000 4886500,370000 4886500,370000 "
+       "4885000))\"\n"
+       "A-2,,public,\"LINESTRING (370000 4880000,371500 4881200)\"\n");
+  struct Case {
+    const char* units;
+    const char* area_suffix;
+    const char* length_suffix;  // "" when the length unit is the metre
+    double area_m2, length_m;
+  };
+  for (const Case& c : {Case{"acre", "ac", "ft", 4046.8564224, 0.3048},
+                        Case{"us-survey-acre", "us_ac", "us_ft", 4046.872609874252, 1200.0 / 3937.0},
+                        Case{"hectare", "ha", "", 1e4, 1}}) {
+    SCOPED_TRACE(c.units);
+    const CliRun r = audit({path("plots.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:32615", "--id-field",
+                            "id", "--units", c.units, "--keep-fields", "name,status,owner", "--tolerance",
+                            "length=1:20000"});
+    ASSERT_EQ(r.rows.size(), 3u) << r.err;
+    const auto& header = r.rows[0];
+    // The audit table first, unchanged.
+    ASSERT_GT(header.size(), contract_columns.size());
+    EXPECT_EQ(std::vector<std::string>(header.begin(), header.begin() + contract_columns.size()), contract_columns);
+    std::vector<std::string> expected_tail;
+    if (*c.length_suffix)
+      for (const char* base : {"true_length_", "grid_length_", "length_error_"})
+        expected_tail.push_back(base + std::string(c.length_suffix));
+    for (const char* base : {"true_area_", "grid_area_", "area_error_"})
+      expected_tail.push_back(base + std::string(c.area_suffix));
+    for (const char* name : {"name", "input_status", "owner"}) expected_tail.push_back(name);
+    EXPECT_EQ(std::vector<std::string>(header.begin() + contract_columns.size(), header.end()), expected_tail);
+    auto col = [&](std::size_t row, const std::string& name) {
+      for (std::size_t k = 0; k < header.size(); ++k)
+        if (header[k] == name) return r.rows[row][k];
+      ADD_FAILURE() << "no column " << name;
+      return std::string();
+    };
+    for (std::size_t row = 1; row <= 2; ++row) {
+      for (const char* what : {"true", "grid"}) {
+        const std::string si = col(row, std::string(what) + "_area_m2");
+        const std::string unit = col(row, std::string(what) + "_area_" + c.area_suffix);
+        EXPECT_EQ(si.empty(), unit.empty());
+        if (!si.empty()) EXPECT_NEAR(std::stod(unit), std::stod(si) / c.area_m2, 1e-12 * std::stod(si) / c.area_m2);
+        if (*c.length_suffix) {
+          const std::string m = col(row, std::string(what) + "_length_m");
+          EXPECT_NEAR(std::stod(col(row, std::string(what) + "_length_" + c.length_suffix)),
+                      std::stod(m) / c.length_m, 1e-12 * std::stod(m) / c.length_m);
+        }
+      }
+    }
+    EXPECT_EQ(col(1, "name"), "south field");
+    EXPECT_EQ(col(2, "name"), "");
+    EXPECT_EQ(col(1, "input_status"), "leased");
+    EXPECT_EQ(col(1, "status"), "ok");
+    EXPECT_EQ(col(1, "owner"), "");  // not an attribute of the input: empty
+    // 7 001 m of perimeter on a grid of scale 0.9998: -195 ppm, beyond 1:20000 (50 ppm); the ratio is echoed.
+    EXPECT_THAT(col(1, "message"), HasSubstr("exceeds length<=1:20000"));
+    EXPECT_THAT(r.err, HasSubstr("tolerances:   length<=1:20000"));
+  }
+  // 'all': every attribute of the first feature.
+  const CliRun all = audit({path("plots.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:32615", "--keep-fields",
+                            "all"});
+  ASSERT_EQ(all.rows.size(), 3u) << all.err;
+  EXPECT_EQ(std::vector<std::string>(all.rows[0].begin() + contract_columns.size(), all.rows[0].end()),
+            (std::vector<std::string>{"input_id", "name", "input_status"}));
+  EXPECT_EQ(all.rows[2].back(), "public");
 }

@@ -276,6 +276,126 @@ TEST_F(GdalIoTest, AnUnreadableDataSourceExitsTwoWithGdalsReason) {
   EXPECT_THAT(r.err, HasSubstr("broken.gpkg"));
 }
 
+TEST_F(GdalIoTest, GeoPackageOutputKeepsTheCrsTheAttributesAndEveryColumn) {
+  // Issue 14: --gpkg writes the features in their own CRS (here NAD83 / UTM zone 15N, EPSG:26915, read from a
+  // CSV with --source-crs), the input's attributes and every CSV column. Reopened here with GDAL's own C API,
+  // independently of gridtruth's writer: the layer's SRS, the feature count, each column's value against the CSV.
+  spit(path("plots.csv"),
+       "id,name,status,wkt\n"
+       "A-1,south field,leased,\"POLYGON ((370000 4885000,372000 4885000,372000 4886500,370000 4886500,370000 "
+       "4885000))\"\n"
+       "A-2,lane,public,\"LINESTRING (370000 4880000,371500 4881200)\"\n"
+       "A-3,broken,unknown,\"POLYGON ((370000 4885000,372000\"\n");
+  const std::string gpkg_path = path("plots_audit.gpkg");
+  const CliRun r = audit({path("plots.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:32615", "--id-field",
+                          "id", "--gpkg", gpkg_path, "--tolerance", "area=1ppm"});
+  ASSERT_EQ(r.rows.size(), 4u) << r.err;
+  EXPECT_EQ(r.status, 1);  // one invalid row
+  GDALAllRegister();
+  GDALDatasetH ds = GDALOpenEx(gpkg_path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr, nullptr);
+  ASSERT_NE(ds, nullptr) << r.err;
+  ASSERT_EQ(GDALDatasetGetLayerCount(ds), 1);
+  OGRLayerH layer = GDALDatasetGetLayer(ds, 0);
+  EXPECT_STREQ(OGR_L_GetName(layer), "plots_audit");
+  OGRSpatialReferenceH srs = OGR_L_GetSpatialRef(layer);
+  ASSERT_NE(srs, nullptr);
+  EXPECT_STREQ(OSRGetAuthorityName(srs, nullptr), "EPSG");
+  EXPECT_STREQ(OSRGetAuthorityCode(srs, nullptr), "26915");
+  EXPECT_EQ(OGR_L_GetFeatureCount(layer, TRUE), 3);
+  OGRFeatureDefnH defn = OGR_L_GetLayerDefn(layer);
+  const std::vector<std::string>& header = r.rows[0];
+  // The input's attributes come first, the one named like an audit column renamed (as --geojson does).
+  // (the CSV's own "id" column is an input attribute too).
+  EXPECT_EQ(OGR_FD_GetFieldIndex(defn, "input_id"), 0);
+  EXPECT_EQ(OGR_FD_GetFieldIndex(defn, "name"), 1);
+  EXPECT_GE(OGR_FD_GetFieldIndex(defn, "input_status"), 0);
+  OGR_L_ResetReading(layer);
+  for (std::size_t k = 1; k < r.rows.size(); ++k) {
+    OGRFeatureH f = OGR_L_GetNextFeature(layer);
+    ASSERT_NE(f, nullptr);
+    SCOPED_TRACE(r.rows[k][0]);
+    for (std::size_t c = 0; c < header.size(); ++c) {
+      SCOPED_TRACE(header[c]);
+      const int index = OGR_FD_GetFieldIndex(defn, header[c].c_str());
+      ASSERT_GE(index, 0);
+      const std::string& cell = r.rows[k][c];
+      const OGRFieldType type = OGR_Fld_GetType(OGR_FD_GetFieldDefn(defn, index));
+      if (type == OFTString) {
+        EXPECT_EQ(OGR_F_GetFieldAsString(f, index), cell);
+      } else if (cell.empty()) {
+        EXPECT_FALSE(OGR_F_IsFieldSetAndNotNull(f, index));
+      } else {
+        ASSERT_TRUE(OGR_F_IsFieldSetAndNotNull(f, index));
+        // The CSV's numbers are the shortest text that reads back to the same double: equal, not near.
+        EXPECT_EQ(OGR_F_GetFieldAsDouble(f, index), std::stod(cell));
+        EXPECT_EQ(type, header[c] == "vertices" ? OFTInteger64 : OFTReal);
+      }
+    }
+    const char* names[] = {"south field", "lane", "broken"};
+    const char* statuses[] = {"leased", "public", "unknown"};
+    EXPECT_STREQ(OGR_F_GetFieldAsString(f, OGR_FD_GetFieldIndex(defn, "name")), names[k - 1]);
+    EXPECT_STREQ(OGR_F_GetFieldAsString(f, OGR_FD_GetFieldIndex(defn, "input_status")), statuses[k - 1]);
+    OGRGeometryH g = OGR_F_GetGeometryRef(f);
+    if (k == 3) {
+      EXPECT_EQ(g, nullptr);  // the feature that could not be read: a row without geometry
+    } else {
+      ASSERT_NE(g, nullptr);
+      OGREnvelope e;
+      OGR_G_GetEnvelope(g, &e);  // the input's own coordinates, not transformed
+      EXPECT_EQ(e.MinX, 370000);
+      EXPECT_EQ(e.MinY, k == 1 ? 4885000 : 4880000);
+      EXPECT_EQ(e.MaxX, k == 1 ? 372000 : 371500);
+      EXPECT_EQ(e.MaxY, k == 1 ? 4886500 : 4881200);
+    }
+    OGR_F_Destroy(f);
+  }
+  GDALClose(ds);
+  // The same file seen by Debian's ogrinfo (gdal-bin), when installed.
+  if (std::system("command -v ogrinfo > /dev/null 2>&1") == 0) {
+    const std::string report = path("ogrinfo.txt");
+    ASSERT_EQ(std::system(("ogrinfo -so -al " + shell_quote(gpkg_path) + " > " + shell_quote(report)).c_str()), 0);
+    const std::string text = slurp(report);
+    EXPECT_THAT(text, HasSubstr("Feature Count: 3"));
+    EXPECT_THAT(text, HasSubstr("NAD83 / UTM zone 15N"));
+    EXPECT_THAT(text, HasSubstr("ID[\"EPSG\",26915]"));
+    EXPECT_THAT(text, HasSubstr("true_area_m2: Real"));
+  }
+  // No temporary file is left beside it.
+  EXPECT_EQ(std::system(("ls -a " + shell_quote(scratch_.dir()) + " | grep -q gridtruth-").c_str()) == 0, false);
+}
+
+TEST_F(GdalIoTest, GeoPackageOutputToStandardOutputIsRefused) {
+  spit(path("one.csv"), "id,wkt\nB-1,\"POINT (370000 4885000)\"\n");
+  const CliRun r = audit({path("one.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:26915", "--gpkg", "-"});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_THAT(r.err, HasSubstr("a file name is needed"));
+}
+
+TEST_F(GdalIoTest, GeoJsonInTheSourceCrsIsPlacedByGdal) {
+  // --geojson-crs source writes the 2008-style "crs" member; GDAL's GeoJSON driver reads the layer's SRS from it.
+  spit(path("one.csv"), "id,wkt\nB-1,\"POINT (370000 4885000)\"\n");
+  const std::string out = path("b.geojson");
+  const CliRun r = audit({path("one.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:26915", "--geojson", out,
+                          "--geojson-crs", "source"});
+  ASSERT_EQ(r.status, 0) << r.err;
+  GDALAllRegister();
+  GDALDatasetH ds = GDALOpenEx(out.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr, nullptr);
+  ASSERT_NE(ds, nullptr);
+  OGRLayerH layer = GDALDatasetGetLayer(ds, 0);
+  OGRSpatialReferenceH srs = OGR_L_GetSpatialRef(layer);
+  ASSERT_NE(srs, nullptr);
+  EXPECT_STREQ(OSRGetAuthorityName(srs, nullptr), "EPSG");
+  EXPECT_STREQ(OSRGetAuthorityCode(srs, nullptr), "26915");
+  OGRFeatureH f = OGR_L_GetNextFeature(layer);
+  ASSERT_NE(f, nullptr);
+  OGRGeometryH g = OGR_F_GetGeometryRef(f);
+  ASSERT_NE(g, nullptr);
+  EXPECT_EQ(OGR_G_GetX(g, 0), 370000);
+  EXPECT_EQ(OGR_G_GetY(g, 0), 4885000);
+  OGR_F_Destroy(f);
+  GDALClose(ds);
+}
+
 #else
 TEST(GdalIoTest, BuiltWithoutGdal) { GTEST_SKIP() << "this build has no GDAL (GRIDTRUTH_WITH_GDAL)"; }
 #endif

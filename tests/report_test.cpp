@@ -523,6 +523,57 @@ TEST_F(ReportCliTest, GeojsonFromCsvCarriesTheOtherColumnsAndRenamesClashes) {
   EXPECT_FALSE(props.contains("wkt"));
 }
 
+TEST_F(ReportCliTest, GeojsonOfAProjectedInputIsWgs84LongitudeLatitude) {
+  // RFC 7946 section 4: GeoJSON coordinates are WGS 84 longitude and latitude in decimal degrees. An input in
+  // NAD83 / UTM zone 15N (EPSG:26915) is transformed. Reference: Debian's python3-pyproj 3.4.1 (PROJ 9.1.1),
+  //   Transformer.from_crs("EPSG:26915", "EPSG:4326", always_xy=True).transform(x, y),
+  // computed outside this program; within 1e-7 degrees (about 1 cm).
+  spit(path("utm.csv"),
+       "id,wkt\nU-1,\"POLYGON ((370000 4885000,372000 4885000,372000 4886500,370000 4886500,370000 4885000))\"\n"
+       "U-2,\"LINESTRING (370000 4880000,371500 4881200)\"\n");
+  ASSERT_EQ(audit({path("utm.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:26915", "--id-field", "id",
+                   "--out", path("rows.csv"), "--geojson", path("out.geojson")}),
+            0)
+      << slurp(path("stderr"));
+  const auto doc = nlohmann::json::parse(slurp(path("out.geojson")));
+  EXPECT_FALSE(doc.contains("crs"));  // RFC 7946 section 4: no "crs" member
+  const auto& features = doc.at("features");
+  ASSERT_EQ(features.size(), 2u);
+  const double ring[5][2] = {{-94.624376197773, 44.106640215824}, {-94.599395516954, 44.106992746163},
+                             {-94.599759748294, 44.120492468880}, {-94.624746111926, 44.120139773417},
+                             {-94.624376197773, 44.106640215824}};
+  const auto& outer = features[0].at("geometry").at("coordinates").at(0);
+  ASSERT_EQ(outer.size(), 5u);
+  for (std::size_t k = 0; k < 5; ++k) {
+    EXPECT_NEAR(outer[k][0].get<double>(), ring[k][0], 1e-7) << k;
+    EXPECT_NEAR(outer[k][1].get<double>(), ring[k][1], 1e-7) << k;
+  }
+  const auto& line = features[1].at("geometry").at("coordinates");
+  ASSERT_EQ(line.size(), 2u);
+  EXPECT_NEAR(line[0][0].get<double>(), -94.623145014170, 1e-7);
+  EXPECT_NEAR(line[0][1].get<double>(), 44.061641441409, 1e-7);
+  EXPECT_NEAR(line[1][0].get<double>(), -94.604715553013, 1e-7);
+  EXPECT_NEAR(line[1][1].get<double>(), 44.072705777735, 1e-7);
+  // The figures are the audit's, not changed by the output's coordinates: 2 km x 1.5 km on the source grid.
+  EXPECT_EQ(features[0].at("properties").at("grid_area_m2").get<double>(), 3000000.0);
+}
+
+TEST_F(ReportCliTest, GeojsonInTheSourceCrsNamesIt) {
+  // --geojson-crs source: the coordinates as read, and the 2008 GeoJSON specification's named CRS (section
+  // 3.1.1, "urn:ogc:def:crs:EPSG::26915"); tests/gdal_io_test.cpp checks that GDAL places the layer by it.
+  spit(path("utm.csv"), "id,wkt\nU-1,\"POINT (370000.25 4885000.5)\"\n");
+  ASSERT_EQ(audit({path("utm.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:26915", "--out", path("rows.csv"),
+                   "--geojson", path("out.geojson"), "--geojson-crs", "source"}),
+            0)
+      << slurp(path("stderr"));
+  const auto doc = nlohmann::json::parse(slurp(path("out.geojson")));
+  EXPECT_EQ(doc.at("crs").at("type"), "name");
+  EXPECT_EQ(doc.at("crs").at("properties").at("name"), "urn:ogc:def:crs:EPSG::26915");
+  const auto& point = doc.at("features").at(0).at("geometry").at("coordinates");
+  EXPECT_EQ(point[0].get<double>(), 370000.25);
+  EXPECT_EQ(point[1].get<double>(), 4885000.5);
+}
+
 TEST_F(ReportCliTest, ReportWritesSvgOrHtmlAndRejectsOtherNames) {
   EXPECT_EQ(audit({demo_geojson, "--crs", "EPSG:32615", "--report", path("r.svg"), "--out", path("rows.csv")}), 1);
   const std::string svg = slurp(path("r.svg"));

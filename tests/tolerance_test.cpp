@@ -114,6 +114,20 @@ TEST(ToleranceToString, CanonicalText) {
   EXPECT_EQ(Tolerance::parse("length=1:3").to_string(), "length<=333333.3333333333ppm");
 }
 
+TEST(ToleranceToString, RatiosAreEchoedAsRatios) {
+  // A closure quoted as 1:N (common practice in surveying) is shown as given; 1:20000 is 50 ppm (1e6 / 2e4).
+  const Tolerance t = Tolerance::parse("length=1:20000");
+  EXPECT_EQ(t.as_given(), "length<=1:20000");
+  EXPECT_EQ(t.ratio_n, 20000.0);
+  const Tolerance back = Tolerance::parse(t.as_given());
+  EXPECT_EQ(back.value, 50.0);
+  EXPECT_EQ(back.as_given(), "length<=1:20000");
+  EXPECT_EQ(Tolerance::parse("area=1:2500.5").as_given(), "area<=1:2500.5");
+  // Any other form is the canonical text.
+  EXPECT_EQ(Tolerance::parse("area=0.1%").as_given(), "area<=1000ppm");
+  EXPECT_EQ(Tolerance::parse("length=0.05m").as_given(), "length<=0.05m");
+}
+
 TEST(ToleranceToString, CanonicalTextParsesBackToTheSameTolerance) {
   for (const char* spec : {"area=0.1%", "length=100ppm", "length=1:10000", "area=50m2", "area=2ha",
                            "length=0.05m", "bearing=20arcsec", "length=1:3", "area=1e-9m2", "length=1e30m"}) {

@@ -25,6 +25,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "gridtruth/audit.hpp"
@@ -240,7 +241,13 @@ class ResultCsvWriter {
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// Adds the 14 bound columns after every other (result_columns()'s `bounds`).
   void with_bounds(bool on) noexcept { bounds_ = on; }
-  /// Writes the header row: the names of columns(), in order.
+  /// Adds columns after the table's (after combined_factor too): `names` in the header (quoted as csv_field()
+  /// says), and in each row the texts of extra_cells(), an empty cell for each one missing. Before write_header().
+  void with_extra_columns(std::vector<std::string> names) { extra_columns_ = std::move(names); }
+  /// The cells of the extra columns for the rows written next, already formatted; the caller sets them before
+  /// each write_row() or write_unread_row() (they are quoted as csv_field() says).
+  std::vector<std::string>& extra_cells() noexcept { return extra_cells_; }
+  /// Writes the header row: the names of columns(), in order, then the extra columns.
   void write_header();
   /// One audited feature.
   void write_row(std::string_view id, const AuditResult& result);
@@ -255,6 +262,7 @@ class ResultCsvWriter {
   std::string line_ending_;
   bool combined_factor_ = false;
   bool bounds_ = false;
+  std::vector<std::string> extra_columns_, extra_cells_;
   std::string line_;  // the row being built, kept so that its buffer is reused
 };
 

@@ -99,16 +99,33 @@ class ReportCollector {
   std::unique_ptr<Impl> impl_;
 };
 
-/// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as read
-/// (in the source CRS; a CRS other than longitude/latitude on WGS 84 is not what RFC 7946 expects, and GIS
-/// software then needs to be told the CRS), and as properties every column ResultCsvWriter writes for the
-/// feature, under the same names: numbers as JSON numbers, empty cells as null, text as strings. The input's own
-/// attributes (InputFeature::properties_json) come first; one whose name is also a column's is kept as
-/// "input_<name>".
+/// The coordinates ResultGeoJsonWriter writes.
+enum class GeoJsonCoordinates {
+  /// Longitude and latitude on WGS 84, in degrees, as RFC 7946 section 4 requires: a source CRS that is not
+  /// WGS 84 longitude/latitude is transformed by PROJ (its default operation, chosen per vertex among those whose
+  /// area of use holds it; its accuracy is PROJ's, e.g. about 2 m from NAD83 with no grid).
+  wgs84,
+  /// The coordinates as read, in the source CRS, named by a "crs" member of type "name" (GeoJSON 2008
+  /// specification, section 3.1.1, which RFC 7946 dropped but GDAL and other GIS software still read):
+  /// "urn:ogc:def:crs:EPSG::n" for an EPSG CRS, else the definition as given.
+  source,
+};
+
+/// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as
+/// GeoJsonCoordinates says, and as properties every column ResultCsvWriter writes for the feature, under the same
+/// names: numbers as JSON numbers, empty cells as null, text as strings. The input's own attributes
+/// (InputFeature::properties_json) come first; one whose name is also a column's is kept as "input_<name>".
+/// A feature with a vertex PROJ cannot transform gets a null geometry and the property "geometry_note" saying so.
 class ResultGeoJsonWriter {
  public:
-  /// Writes to `out`, which must outlive the writer.
+  /// Writes to `out`, which must outlive the writer, the coordinates as read (no CRS named, no transformation:
+  /// RFC 7946 only when the input is WGS 84 longitude/latitude).
   explicit ResultGeoJsonWriter(std::ostream& out);
+  /// Writes to `out` features whose geometries are in `source_crs` (any definition describe_crs() takes), with
+  /// the coordinates `coordinates` asks for. Throws Error(unknown_crs) for a CRS PROJ cannot resolve,
+  /// Error(no_transformation) when PROJ has no operation to WGS 84.
+  ResultGeoJsonWriter(std::ostream& out, const std::string& source_crs,
+                      GeoJsonCoordinates coordinates = GeoJsonCoordinates::wgs84);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// One audited feature.
@@ -124,11 +141,52 @@ class ResultGeoJsonWriter {
   ResultGeoJsonWriter& operator=(const ResultGeoJsonWriter&) = delete;
 
  private:
-  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json);
+  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json,
+                        const char* geometry_note = nullptr);
+  struct Transform;
+  std::unique_ptr<Transform> transform_;  // source CRS → WGS 84 longitude/latitude; null: coordinates as read
   std::ostream* out_;
   bool combined_factor_ = false;
   bool first_ = true;
   bool finished_ = false;
+};
+
+/// Writes audited features as one layer of a new GeoPackage (OGC 12-128r18) through GDAL's GPKG driver, for GIS
+/// software: each feature's geometry as read, in the source CRS (the layer's spatial reference, x = longitude or
+/// easting whatever the CRS's official axis order); the input's attributes (InputFeature::properties_json) as
+/// fields, created as they first appear (JSON integers as Integer64, other numbers as Real, booleans as Integer,
+/// strings as String, arrays and objects as their JSON text), before the audit columns; then every column of
+/// result_columns() under the same names: numbers as Real, counts as Integer64, text as String, values that do not
+/// apply (NaN) as NULL. An input attribute whose name is an audit column's, or the layer's "fid" or "geom" column
+/// (compared case-insensitively, as SQLite does), is kept as "input_<name>". A feature that could not be read is a
+/// row with a NULL geometry. All rows are written in one transaction, committed by finish().
+/// Needs a build with GDAL (built_with_gdal() in cells.hpp); otherwise the constructor throws Error(io).
+/// Not thread-safe: one thread writes.
+class ResultGeoPackageWriter {
+ public:
+  /// Creates the GeoPackage `path` (which must not exist) with one layer `layer_name` whose spatial reference is
+  /// `source_crs` (any definition GDAL's OSRSetFromUserInput takes: "EPSG:n", WKT, PROJJSON, a PROJ string).
+  /// Throws Error(io) naming the path and GDAL's reason, Error(unknown_crs) when GDAL cannot read the CRS.
+  ResultGeoPackageWriter(const std::string& path, const std::string& source_crs,
+                         const std::string& layer_name = "audit");
+  ~ResultGeoPackageWriter();
+  ResultGeoPackageWriter(const ResultGeoPackageWriter&) = delete;
+  ResultGeoPackageWriter& operator=(const ResultGeoPackageWriter&) = delete;
+  /// Adds the `combined_factor` column, as ResultCsvWriter::with_combined_factor(); before the first row only.
+  void with_combined_factor(bool on) noexcept;
+  /// One audited feature, geometry in the source CRS. Throws Error(io) when GDAL cannot write the row.
+  void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
+                     std::string_view input_properties_json = {});
+  /// One feature that could not be read: NULL geometry, the cells of unread_row().
+  void write_unread(std::string_view id, std::string_view message, std::optional<GeometryType> type = std::nullopt,
+                    std::string_view input_properties_json = {});
+  /// Commits the rows and closes the file (a layer without rows is still created). Throws Error(io) naming
+  /// GDAL's reason. The destructor closes an unfinished file as it is (the caller should remove it).
+  void finish();
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
 };
 
 }  // namespace gridtruth

@@ -18,6 +18,7 @@ struct Tolerance {
   Metric metric = Metric::area;    ///< what is limited: area, length (perimeter for polygons) or bearing error
   Kind kind = Kind::relative_ppm;  ///< relative (|error_ppm| ≤ value) or absolute (|error| ≤ value); bearing: absolute
   double value = 0;  ///< ppm, m, m² or arcsec as above; always > 0
+  double ratio_n = 0;  ///< N when the tolerance was given as the ratio 1:N (value = 1e6 / N ppm), else 0
 
   /// Parses "area=0.1%", "length=100ppm", "length=1:10000", "area=50m2", "length=0.05m", "bearing=20arcsec".
   /// Also accepted: "ha" for areas (hectares, converted to m²). Throws Error(invalid_argument) with the reason.
@@ -27,6 +28,9 @@ struct Tolerance {
 
   /// Canonical text, e.g. "area<=1000ppm", "length<=0.05m", "bearing<=20arcsec".
   std::string to_string() const;
+  /// The text for people, in the form given: a ratio stays a ratio ("length<=1:20000", as surveyors quote
+  /// closures), anything else is to_string(). parse() reads it back.
+  std::string as_given() const;
 };
 
 /// The outcome of comparing a feature against the tolerances that apply to it.

@@ -34,7 +34,7 @@ namespace gridtruth::detail {
   X(OGR_F_SetFieldDouble) X(OGR_F_SetFieldInteger64) X(OGR_F_SetFieldNull) X(OGR_G_ExportToIsoWkt)              \
   X(OGR_G_CreateFromWkt) X(OGR_G_DestroyGeometry) X(OSRGetAuthorityName) X(OSRGetAuthorityCode)                   \
   X(OSRExportToWktEx) X(OSRNewSpatialReference) X(OSRSetFromUserInput) X(OSRRelease)      \
-  X(OSRSetAxisMappingStrategy) X(VSIFree)
+  X(OSRSetAxisMappingStrategy) X(VSIFree) X(OGR_FD_GetFieldIndex) X(CPLGetLastErrorType)
 
 /// GDAL's C functions, resolved on first use.
 struct GdalApi {
