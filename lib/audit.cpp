@@ -670,9 +670,9 @@ struct Auditor::Impl {
   PointFactors factors_p(double lon_p, double lat_p) const { return factors_batch({{lon_p, lat_p}}).front(); }
   /// Source coordinates (as given) → source longitude, latitude; NaN when they cannot be converted.
   Coord to_source_lonlat(const Coord& c) const;
-  /// The datum transformation for a feature centred at a source point (lon, lat degrees): PROJ's choice there,
-  /// or the pinned one; `index` into candidates->operations() (none for a pinned pipeline). Null when identity.
-  PJ* datum_op(const Coord& lonlat_s, std::optional<std::size_t>& index) const;
+  /// The datum transformation for a feature with this bounding box (source lon, lat degrees): PROJ's default
+  /// for it, or the pinned one; `index` into candidates->operations() (none for a pinned pipeline). Null when identity.
+  PJ* datum_op(const AreaOfUse& box, std::optional<std::size_t>& index) const;
 
  private:
   // Fills lonlat_p and xy of every path and point; returns an error message when a vertex fails.
@@ -840,11 +840,11 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
   transform.proj_string = candidates->pipeline(shown);
 }
 
-PJ* Auditor::Impl::datum_op(const Coord& lonlat_s, std::optional<std::size_t>& index) const {
+PJ* Auditor::Impl::datum_op(const AreaOfUse& box, std::optional<std::size_t>& index) const {
   index.reset();
   if (op_pinned) return op_pinned.get();
   if (!candidates) return nullptr;
-  index = pinned ? pinned : candidates->choose(lonlat_s.x, lonlat_s.y);
+  index = pinned ? pinned : candidates->choose(box.west_deg, box.south_deg, box.east_deg, box.north_deg);
   if (!index) index = candidates->first_usable();  // no candidate's area covers the point
   auto cached = op_cache.find(*index);
   if (cached == op_cache.end()) {
@@ -867,7 +867,7 @@ void Auditor::Impl::check_pinned_pipeline(PJ_CONTEXT* c, const PJ* src_geog, con
                                                   : std::remainder((aou.west_deg + aou.east_deg + 360) / 2, 360.0),
                      (aou.south_deg + aou.north_deg) / 2};
   const detail::DatumCandidates reference(c, src_geog, tgt);
-  const std::optional<std::size_t> i = reference.choose(centre.x, centre.y);
+  const std::optional<std::size_t> i = reference.choose(centre.x, centre.y, centre.x, centre.y);
   Pj expected(proj_create(c, reference.pipeline(i ? *i : reference.first_usable()).c_str()));
   const PJ_COORD want = proj_trans(expected.get(), PJ_FWD, proj_coord(centre.x, centre.y, 0, 0));
   const PJ_COORD got = proj_trans(op_pinned.get(), PJ_FWD, proj_coord(centre.x, centre.y, 0, 0));
@@ -1363,7 +1363,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     };
     for (const WorkPath& path : paths) extend(path.lonlat_s);
     extend(points_s);
-    op_full = datum_op({(west + east) / 2, (south + north) / 2}, r.datum_operation);
+    op_full = datum_op(AreaOfUse{"", west, south, east, north}, r.datum_operation);
   }
   const std::string& op_name = r.datum_operation ? candidates->operations()[*r.datum_operation].name : transform.name;
   std::string transform_failure = transform_vertices(op_full, op_name, paths, points_p, points_xy, points_s);
@@ -1697,7 +1697,7 @@ PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
   // Through the datum transformation to the target plane, then back to its geographic CRS.
   auto& self = *impl_;
   std::optional<std::size_t> index;
-  proj_trans_generic(self.datum_op(lonlat, index), PJ_FWD, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
+  proj_trans_generic(self.datum_op(AreaOfUse{"", lonlat.x, lonlat.y, lonlat.x, lonlat.y}, index), PJ_FWD, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
                      0, 0, nullptr, 0, 0);
   proj_trans_generic(self.op_proj.get(), PJ_INV, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
                      0, 0, nullptr, 0, 0);
@@ -1708,7 +1708,8 @@ PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
 Coord Auditor::project(double lon_deg, double lat_deg) const {
   const Coord lonlat = impl_->to_source_lonlat({lon_deg, lat_deg});
   std::optional<std::size_t> index;
-  PJ* op = impl_->datum_shift ? impl_->datum_op(lonlat, index) : impl_->op_proj.get();
+  PJ* op = impl_->datum_shift ? impl_->datum_op(AreaOfUse{"", lonlat.x, lonlat.y, lonlat.x, lonlat.y}, index)
+                               : impl_->op_proj.get();
   const PJ_COORD out = proj_trans(op, PJ_FWD, proj_coord(lonlat.x, lonlat.y, 0, 0));
   Coord c{out.xy.x, out.xy.y};
   if (!finite(c)) c = {kNaN, kNaN};

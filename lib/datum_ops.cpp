@@ -83,37 +83,31 @@ double shared_size(const std::optional<AreaOfUse>& a, const std::optional<AreaOf
 
 DatumCandidates::DatumCandidates(PJ_CONTEXT* c, const PJ* src_geog, const PJ* tgt) : ctx_(make_context()) {
   PJ_CONTEXT* own = ctx_.get();
-  Pj from(proj_clone(own, src_geog)), to(proj_clone(own, tgt));
-  if (!from || !to) throw Error(ErrorCode::no_transformation, "cannot copy the CRSs: " + last_error(c));
-  if (Pj cs{proj_crs_get_coordinate_system(own, from.get())}) {
-    const char* direction = nullptr;
-    if (proj_cs_get_axis_info(own, cs.get(), 0, nullptr, nullptr, &direction, nullptr, nullptr, nullptr,
-                              nullptr) &&
-        direction) {
-      latitude_first_ = std::strcmp(direction, "north") == 0 || std::strcmp(direction, "south") == 0;
-    }
-  }
-  List all = operations_between(own, from.get(), to.get(), PROJ_GRID_AVAILABILITY_KNOWN_AVAILABLE);
+  from_.reset(proj_clone(own, src_geog));
+  to_.reset(proj_clone(own, tgt));
+  if (!from_ || !to_) throw Error(ErrorCode::no_transformation, "cannot copy the CRSs: " + last_error(c));
+  const PJ* from = from_.get();
+  const PJ* to = to_.get();
+  List all = operations_between(own, from, to, PROJ_GRID_AVAILABILITY_KNOWN_AVAILABLE);
   const int all_count = all ? proj_list_get_count(all.get()) : 0;
   for (int i = 0; i < all_count; ++i) {
     Pj op(proj_list_get(own, all.get(), i));
     if (op) operations_.push_back(describe_operation(own, op.get()));
   }
   pipelines_.assign(operations_.size(), "");
-  List usable = operations_between(own, from.get(), to.get(), PROJ_GRID_AVAILABILITY_DISCARD_OPERATION_IF_MISSING_GRID);
+  List usable = operations_between(own, from, to, PROJ_GRID_AVAILABILITY_DISCARD_OPERATION_IF_MISSING_GRID);
   const int usable_count = usable ? proj_list_get_count(usable.get()) : 0;
   bool any = false;
   for (int i = 0; i < usable_count; ++i) {
     Pj op(proj_list_get(own, usable.get(), i));
     Pj normalized(op ? proj_normalize_for_visualization(own, op.get()) : nullptr);
     const char* def = normalized ? proj_as_proj_string(own, normalized.get(), PJ_PROJ_5, nullptr) : nullptr;
-    std::size_t index = operations_.size() + usable_count;  // none: PROJ lists it, it cannot be applied
     if (op && def && proj_coordoperation_is_instantiable(own, op.get())) {
       const char* name = proj_get_name(op.get());
       const auto same = std::find_if(operations_.begin(), operations_.end(), [&](const DatumOperation& d) {
         return name && d.name == name;
       });
-      index = static_cast<std::size_t>(same - operations_.begin());
+      const auto index = static_cast<std::size_t>(same - operations_.begin());
       if (same == operations_.end()) {
         operations_.push_back(describe_operation(own, op.get()));
         pipelines_.emplace_back();
@@ -124,30 +118,70 @@ DatumCandidates::DatumCandidates(PJ_CONTEXT* c, const PJ* src_geog, const PJ* tg
       if (!any) first_usable_ = index;
       any = true;
     }
-    usable_to_index_.push_back(index);
   }
   if (!any) throw Error(ErrorCode::no_transformation, "PROJ has no usable operation between the CRSs");
-  usable_ = usable.release();
-  // The first proj_get_suggested_operation prepares PROJ's list; do it now, under no lock contention.
-  (void)choose(0, 0);
 }
 
-DatumCandidates::~DatumCandidates() {
-  if (usable_) proj_list_destroy(usable_);
-}
+DatumCandidates::~DatumCandidates() = default;
 
-std::optional<std::size_t> DatumCandidates::choose(double lon_deg, double lat_deg) const {
-  if (!std::isfinite(lon_deg) || !std::isfinite(lat_deg)) return std::nullopt;
-  const PJ_COORD at = latitude_first_ ? proj_coord(lat_deg, lon_deg, 0, 0) : proj_coord(lon_deg, lat_deg, 0, 0);
-  int chosen = -1;
-  {
-    std::lock_guard<std::mutex> lock(mutex_);
-    chosen = proj_get_suggested_operation(ctx_.get(), usable_, PJ_FWD, at);
+std::optional<std::size_t> DatumCandidates::choose(double west_deg, double south_deg, double east_deg,
+                                                   double north_deg) const {
+  if (!(std::isfinite(west_deg) && std::isfinite(south_deg) && std::isfinite(east_deg) && std::isfinite(north_deg)))
+    return std::nullopt;
+  // PROJ's choice depends on which candidates' areas meet the box (they are kept), how much of the box each
+  // covers (they are sorted by it) and which hold its centre (proj_trans takes the most accurate of those). When
+  // every candidate holds the whole box or none of it, that is all one pattern: cache it. A box partly inside
+  // some candidate's area goes to PROJ itself (about 30 ms).
+  std::string key;
+  bool partial = false;
+  for (std::size_t i = 0; i < operations_.size(); ++i) {
+    const std::optional<AreaOfUse>& a = operations_[i].area;
+    if (!operations_[i].usable) continue;
+    if (!a || a->west_deg > a->east_deg) {  // no area: everywhere; across ±180°: left to PROJ
+      key += a ? '?' : 'i';
+      partial = partial || a;
+      continue;
+    }
+    const bool inside = west_deg >= a->west_deg && east_deg <= a->east_deg && south_deg >= a->south_deg &&
+                        north_deg <= a->north_deg;
+    const bool apart = east_deg < a->west_deg || west_deg > a->east_deg || north_deg < a->south_deg ||
+                       south_deg > a->north_deg;
+    key += inside ? 'i' : apart ? 'o' : 'p';
+    partial = partial || (!inside && !apart);
   }
-  if (chosen < 0 || static_cast<std::size_t>(chosen) >= usable_to_index_.size()) return std::nullopt;
-  const std::size_t index = usable_to_index_[static_cast<std::size_t>(chosen)];
-  if (index >= operations_.size()) return std::nullopt;
-  return index;
+  std::lock_guard<std::mutex> lock(mutex_);
+  if (!partial) {
+    const auto hit = cache_.find(key);
+    if (hit != cache_.end()) return hit->second;
+  }
+  const std::optional<std::size_t> chosen = ask_proj(west_deg, south_deg, east_deg, north_deg);
+  if (!partial) cache_.emplace(key, chosen);
+  return chosen;
+}
+
+std::optional<std::size_t> DatumCandidates::ask_proj(double west_deg, double south_deg, double east_deg,
+                                                     double north_deg) const {
+  PJ_CONTEXT* own = ctx_.get();
+  PJ_AREA* area = proj_area_create();
+  if (!area) return std::nullopt;
+  constexpr double pad_deg = 1e-9;  // a point is a box PROJ accepts
+  proj_area_set_bbox(area, west_deg - pad_deg, south_deg - pad_deg, east_deg + pad_deg, north_deg + pad_deg);
+  Pj raw(proj_create_crs_to_crs_from_pj(own, from_.get(), to_.get(), area, nullptr));
+  proj_area_destroy(area);
+  Pj op(raw ? proj_normalize_for_visualization(own, raw.get()) : nullptr);
+  if (!op) return std::nullopt;
+  proj_trans(op.get(), PJ_FWD, proj_coord((west_deg + east_deg) / 2, (south_deg + north_deg) / 2, 0, 0));
+  Pj used(proj_trans_get_last_used_operation(op.get()));
+  const char* used_name = proj_get_name(used ? used.get() : op.get());
+  if (!used_name) return std::nullopt;
+  std::string name = used_name;
+  // Normalising for longitude-latitude order adds this step to the name; the candidates are listed without it.
+  const std::string swap = "axis order change (2D) + ";
+  if (name.compare(0, swap.size(), swap) == 0) name.erase(0, swap.size());
+  for (std::size_t i = 0; i < operations_.size(); ++i) {
+    if (operations_[i].usable && operations_[i].name == name) return i;
+  }
+  return std::nullopt;
 }
 
 std::size_t DatumCandidates::find(const std::string& auth_code) const {

@@ -2,6 +2,7 @@
 // per-point choice among them (used by lib/audit.cpp).
 #pragma once
 
+#include <map>
 #include <mutex>
 #include <optional>
 #include <string>
@@ -29,8 +30,10 @@ class DatumCandidates {
   const std::string& pipeline(std::size_t i) const { return pipelines_[i]; }
   /// The first usable candidate in PROJ's order.
   std::size_t first_usable() const noexcept { return first_usable_; }
-  /// The usable candidate PROJ's proj_trans applies at a source point (degrees); nullopt when none covers it.
-  std::optional<std::size_t> choose(double lon_deg, double lat_deg) const;
+  /// The usable candidate PROJ's own default applies to a feature with this bounding box (source longitude,
+  /// latitude, degrees): proj_create_crs_to_crs with the box as area of interest, proj_trans at its centre.
+  /// nullopt when PROJ names none of the candidates. Cached by how the box lies in the candidates' areas.
+  std::optional<std::size_t> choose(double west_deg, double south_deg, double east_deg, double north_deg) const;
   /// The candidate that is, or has as one step (possibly inverted), the database operation AUTH:CODE. Throws
   /// Error(no_transformation) when there is none or it lacks a grid, Error(invalid_argument) for an unknown code.
   std::size_t find(const std::string& auth_code) const;
@@ -38,14 +41,15 @@ class DatumCandidates {
   std::vector<std::string> warnings(const std::vector<std::size_t>& used) const;
 
  private:
+  std::optional<std::size_t> ask_proj(double west_deg, double south_deg, double east_deg, double north_deg) const;
+
   Context ctx_;
-  PJ_OBJ_LIST* usable_ = nullptr;             // PROJ's list of usable candidates, in ctx_
-  std::vector<std::size_t> usable_to_index_;  // usable_ position → operations_ index
+  Pj from_, to_;  // the CRSs, in ctx_
   std::vector<DatumOperation> operations_;
   std::vector<std::string> pipelines_;
   std::size_t first_usable_ = 0;
-  bool latitude_first_ = false;  // the source CRS's axis order, as the candidates' areas are expressed
-  mutable std::mutex mutex_;
+  mutable std::mutex mutex_;  // ctx_ and cache_
+  mutable std::map<std::string, std::optional<std::size_t>> cache_;
 };
 
 }  // namespace gridtruth::detail

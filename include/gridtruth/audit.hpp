@@ -273,9 +273,10 @@ class Auditor {
   const TransformInfo& transform() const noexcept;
   /// Every candidate PROJ found from the source CRS to the target, usable or not, in PROJ's order (grids known to
   /// be available first, then by accuracy and area); empty when no datum transformation applies. Without
-  /// AuditOptions::datum_operation each feature uses the usable candidate PROJ's proj_trans would use for the
-  /// centre of the feature's bounding box (source longitude, latitude): among those whose area of use contains it,
-  /// the one with the best accuracy; all vertices of a feature use the same operation.
+  /// AuditOptions::datum_operation each feature uses the operation PROJ's default picks for it: the one
+  /// proj_create_crs_to_crs, given the feature's bounding box (source longitude, latitude) as area of interest,
+  /// applies at the box's centre (only operations whose grids are installed; no network). All vertices of a
+  /// feature use that operation. The choice is cached per pattern of the box against the candidates' areas.
   const std::vector<DatumOperation>& datum_operations() const noexcept;
   /// Warnings about the datum transformation of features that used the given datum_operations() indices (one
   /// sentence each): a ballpark operation, or one worse than 1 m, applied where a better candidate needs a grid
