@@ -167,10 +167,11 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                             {"area_of_use", area},
                             {"features", used == datum_use_.end() ? 0 : used->second}});
     }
-    j["datum_transformation"]["pinned"] = a.options().datum_operation.empty() ? json(nullptr)
-                                                                              : json(a.options().datum_operation);
-    j["datum_transformation"]["candidates"] = candidates;
-    j["datum_transformation"]["warnings"] = datum_warnings(a);
+    // Beside "datum_transformation" (the Python package's summary() mirrors that one): what PROJ offered.
+    j["datum_operations"] = {
+        {"pinned", a.options().datum_operation.empty() ? json(nullptr) : json(a.options().datum_operation)},
+        {"candidates", candidates},
+        {"warnings", datum_warnings(a)}};
     j["edges"] = a.edges().to_string();
     json tolerances = json::array();
     for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());
