@@ -86,6 +86,9 @@ void AuditSummary::add(const InputFeature& feature, const AuditResult& r) {
   }
   if (r.verdict == Verdict::pass) ++pass_;
   if (r.verdict == Verdict::fail) ++fail_;
+  if (r.datum_operation && r.status == Status::ok) ++datum_use_[*r.datum_operation];
+  if (r.message.find("lie outside the area of use") != std::string::npos) ++outside_area_of_use_;
+  if (r.message.rfind(looks_projected_text, 0) == 0) ++look_projected_;
   if (r.status != Status::ok) return;
 
   const Budget* b = nullptr;
@@ -116,6 +119,12 @@ void AuditSummary::add_unread(const InputFeature&) {
   ++invalid_;
 }
 
+std::vector<std::string> AuditSummary::datum_warnings(const Auditor& a) const {
+  std::vector<std::size_t> used;
+  for (const auto& entry : datum_use_) used.push_back(entry.first);
+  return a.datum_warnings(used);
+}
+
 std::vector<WorstFeature> AuditSummary::worst() const {
   std::vector<WorstFeature> w = worst_;
   std::sort(w.begin(), w.end(), worse);
@@ -139,6 +148,30 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                                  {"is_identity", t.is_identity},
                                  {"is_ballpark", t.is_ballpark},
                                  {"proj_string", t.proj_string}};
+    json candidates = json::array();
+    const auto& ops = a.datum_operations();
+    for (std::size_t i = 0; i < ops.size(); ++i) {
+      const DatumOperation& d = ops[i];
+      const auto used = datum_use_.find(i);
+      json area = nullptr;
+      if (d.area) {
+        area = {{"name", d.area->name}, {"west_deg", d.area->west_deg}, {"south_deg", d.area->south_deg},
+                {"east_deg", d.area->east_deg}, {"north_deg", d.area->north_deg}};
+      }
+      candidates.push_back({{"name", d.name},
+                            {"accuracy_m", d.accuracy_m ? json(*d.accuracy_m) : json(nullptr)},
+                            {"is_ballpark", d.is_ballpark},
+                            {"grids_available", d.grids_available},
+                            {"missing_grids", d.missing_grids},
+                            {"usable", d.usable},
+                            {"area_of_use", area},
+                            {"features", used == datum_use_.end() ? 0 : used->second}});
+    }
+    // Beside "datum_transformation" (the Python package's summary() mirrors that one): what PROJ offered.
+    j["datum_operations"] = {
+        {"pinned", a.options().datum_operation.empty() ? json(nullptr) : json(a.options().datum_operation)},
+        {"candidates", candidates},
+        {"warnings", datum_warnings(a)}};
     j["edges"] = a.edges().to_string();
     json tolerances = json::array();
     for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());  // canonical for machines (as the Python summary)
@@ -192,6 +225,8 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
     }
   }
   j["input_problems"] = {{"skipped_bytes", skipped_bytes}, {"spans", problems}};
+  j["outside_area_of_use"] = outside_area_of_use_;
+  j["look_projected"] = look_projected_;
   j["exit_status"] = exit_status(c);
   j["caution"] = caution_text;
   return j;
@@ -211,12 +246,34 @@ std::string AuditSummary::to_text(const Context& c) const {
     s << "  source CRS:   " << crs_line(a.source()) << "\n";
     s << "  target CRS:   " << crs_line(a.target()) << "\n";
     const TransformInfo& t = a.transform();
-    s << "  datum transformation: " << t.name;
-    if (t.is_identity) {
-    } else if (t.accuracy_m) s << " (stated accuracy " << fixed(*t.accuracy_m, 3) << " m)";
-    else s << " (accuracy unknown: the datum part has no bound)";
-    if (t.is_ballpark) s << " [ballpark: approximate only]";
-    s << "\n";
+    const auto& ops = a.datum_operations();
+    auto accuracy = [](const DatumOperation& d) {
+      return d.is_ballpark    ? std::string("ballpark: approximate only")
+             : d.accuracy_m ? "stated accuracy " + fixed(*d.accuracy_m, 3) + " m"
+                            : std::string("accuracy unknown: the datum part has no bound");
+    };
+    std::size_t usable = 0;
+    for (const DatumOperation& d : ops) usable += d.usable ? 1 : 0;
+    const std::string candidates = std::to_string(ops.size()) + " candidates, " + std::to_string(usable) +
+                                   " usable; --summary lists them";
+    if (datum_use_.size() == 1) {
+      const DatumOperation& d = ops[datum_use_.begin()->first];
+      s << "  datum transformation: " << d.name << " (" << accuracy(d) << ")\n    (" << candidates << ")\n";
+    } else if (datum_use_.size() > 1) {
+      // What the features used, per operation: PROJ's choice per feature.
+      s << "  datum transformation: per feature (" << candidates << "):\n";
+      for (const auto& [index, features] : datum_use_) {
+        s << "    " << ops[index].name << " (" << accuracy(ops[index]) << "): " << features << " feature(s)\n";
+      }
+    } else {
+      s << "  datum transformation: " << t.name;
+      if (t.is_identity) {
+      } else if (t.accuracy_m) s << " (stated accuracy " << fixed(*t.accuracy_m, 3) << " m)";
+      else s << " (accuracy unknown: the datum part has no bound)";
+      if (t.is_ballpark) s << " [ballpark: approximate only]";
+      s << "\n";
+    }
+    for (const std::string& w : datum_warnings(a)) s << "  warning: " << w << "\n";
     s << "  edges:        " << a.edges().to_string() << "\n";
     std::string tolerances;
     for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.as_given();
@@ -247,6 +304,12 @@ std::string AuditSummary::to_text(const Context& c) const {
       if (f.verdict != Verdict::none) s << "  " << to_string(f.verdict);
       s << "\n";
     }
+  }
+  if (outside_area_of_use_ > 0) {
+    s << "  warning: " << outside_area_of_use_ << " feature(s) lie partly outside the target CRS's area of use\n";
+  }
+  if (look_projected_ > 0) {
+    s << "  warning: " << looks_projected_text << " (" << look_projected_ << " feature(s))\n";
   }
   if (c.input_problems && !c.input_problems->empty()) {
     std::uint64_t skipped_bytes = 0;

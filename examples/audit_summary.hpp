@@ -2,6 +2,7 @@
 #pragma once
 
 #include <cstddef>
+#include <map>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -87,10 +88,14 @@ class AuditSummary {
   std::string to_text(const Context& context) const;
 
  private:
+  std::vector<std::string> datum_warnings(const Auditor& auditor) const;
   std::size_t read_ = 0, ok_ = 0, invalid_ = 0, unmeasurable_ = 0, pass_ = 0, fail_ = 0;
   std::size_t length_features_ = 0, area_features_ = 0;
   CompensatedSum true_length_m_, grid_length_m_, true_area_m2_, grid_area_m2_;
   std::vector<WorstFeature> worst_;
+  std::map<std::size_t, std::size_t> datum_use_;  // Auditor::datum_operations() index → features
+  std::size_t outside_area_of_use_ = 0;           // measured with the "lie outside the area of use" warning
+  std::size_t look_projected_ = 0;                // invalid because geographic input looked projected
 };
 
 /// The caution printed with --help and every summary.

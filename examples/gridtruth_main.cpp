@@ -53,6 +53,7 @@ struct AuditArgs {
   std::string source_crs;  // empty: the input's own CRS, else EPSG:4326
   std::string layer;
   std::string area_of_use_margin = "5";
+  std::string datum_op;  // empty: PROJ's choice per feature
   double height_m = 0;
   std::string height_field;
   std::string edges;
@@ -208,6 +209,7 @@ int run_audit(const AuditArgs& args) {
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
   options.repair = args.repair;
+  options.datum_operation = args.datum_op;
   if (args.area_of_use_margin == "off") {
     options.area_of_use_margin_deg = std::numeric_limits<double>::infinity();
   } else {
@@ -531,6 +533,10 @@ int main(int argc, char** argv) {
                     "degrees a vertex may lie outside the target CRS's area of use before the feature is "
                     "unmeasurable (within it: measured with a warning); 'off': always measured, with the warning")
       ->capture_default_str();
+  audit->add_option("--datum-op", args.datum_op,
+                    "pin the datum transformation for a reproducible run: AUTH:CODE of PROJ's database (e.g. "
+                    "EPSG:1173) or a PROJ pipeline from source lon/lat to the target; default: per feature, the one "
+                    "PROJ applies at the centre of its bounding box");
   audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
   audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");

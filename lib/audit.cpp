@@ -12,10 +12,12 @@
 #include <cstdio>
 #include <limits>
 #include <functional>
+#include <map>
 #include <utility>
 
 #include "gridtruth/error.hpp"
 #include "compensated_sum.hpp"
+#include "datum_ops.hpp"
 #include "edge_quadrature.hpp"
 #include "proj_handles.hpp"
 #include "short_geodesics.hpp"
@@ -731,7 +733,13 @@ struct Auditor::Impl {
   EdgeSpec edges;
   detail::Context ctx;
   Pj op_proj;    // target's base geographic CRS (lon, lat degrees) → target plane (easting, northing)
-  Pj op_full;    // source lon, lat → target plane, through the datum transformation; null when identity
+  // The datum transformation (source lon, lat → target plane): the candidates PROJ offers and its choice per
+  // feature, or a pinned one. datum_shift is false when source and target share their geographic CRS.
+  bool datum_shift = false;
+  std::shared_ptr<const detail::DatumCandidates> candidates;  // null: identity, or a pinned pipeline
+  std::optional<std::size_t> pinned;  // --datum-op AUTH:CODE: the candidate every feature uses
+  Pj op_pinned;                       // --datum-op PIPELINE
+  mutable std::map<std::size_t, Pj> op_cache;  // instantiated candidates of this auditor (one thread)
   Pj op_fast;    // the same as op_proj, rebuilt from its PROJ pipeline string (no CRS wrapper): faster per point
   Pj op_source;  // projected source plane → its base geographic CRS; null for a geographic source
   Pj op_s_to_c;  // straight edges: source lon, lat → the edge CRS's plane
@@ -754,11 +762,15 @@ struct Auditor::Impl {
   PointFactors factors_p(double lon_p, double lat_p) const { return factors_batch({{lon_p, lat_p}}).front(); }
   /// Source coordinates (as given) → source longitude, latitude; NaN when they cannot be converted.
   Coord to_source_lonlat(const Coord& c) const;
+  /// The datum transformation for a feature with this bounding box (source lon, lat degrees): PROJ's default
+  /// for it, or the pinned one; `index` into candidates->operations() (none for a pinned pipeline). Null when identity.
+  PJ* datum_op(const AreaOfUse& box, std::optional<std::size_t>& index) const;
 
  private:
   // Fills lonlat_p and xy of every path and point; returns an error message when a vertex fails.
-  std::string transform_vertices(std::vector<WorkPath>& paths, std::vector<Coord>& points_lonlat_p,
+  std::string transform_vertices(PJ* op_full, const std::string& op_name, std::vector<WorkPath>& paths, std::vector<Coord>& points_lonlat_p,
                                  std::vector<Coord>& points_xy, const std::vector<Coord>& points_s) const;
+  void check_pinned_pipeline(PJ_CONTEXT* c, const PJ* src_geog, const PJ* tgt) const;
   bool transform_array(PJ* op, PJ_DIRECTION dir, std::vector<Coord>& pts) const;
   std::vector<PointFactors> factors_batch(const std::vector<Coord>& lonlat_p) const;
   std::optional<Distortion> distortion_over(const std::vector<Coord>& samples) const;
@@ -778,6 +790,28 @@ Pj normalized_operation(PJ_CONTEXT* c, const PJ* from, const PJ* to, const std::
   Pj raw(proj_create_crs_to_crs_from_pj(c, from, to, nullptr, nullptr));
   Pj op(raw ? proj_normalize_for_visualization(c, raw.get()) : nullptr);
   if (!op) throw Error(ErrorCode::no_transformation, "cannot build " + what + ": " + detail::last_error(c));
+  return op;
+}
+
+constexpr std::size_t kProblemsListed = 3;  // problems an invalid feature's message lists before "and N more"
+
+/// "EPSG:1173" (an authority and a code, no spaces, no '+', not a JSON or WKT text) rather than a pipeline.
+bool is_database_code(const std::string& text) {
+  const std::size_t colon = text.find(':');
+  return colon != std::string::npos && colon > 0 && colon + 1 < text.size() &&
+         text.find_first_of(" +={[\n") == std::string::npos;
+}
+
+Pj pinned_pipeline(PJ_CONTEXT* c, const std::string& definition) {
+  Pj op(proj_create(c, definition.c_str()));
+  if (!op || proj_is_crs(op.get())) {
+    throw Error(ErrorCode::invalid_argument, "--datum-op '" + definition + "' is not a PROJ operation" +
+                                                 (op ? std::string(" (it is a CRS)") : ": " + detail::last_error(c)));
+  }
+  if (proj_angular_input(op.get(), PJ_FWD)) {
+    throw Error(ErrorCode::invalid_argument, "--datum-op: the pipeline takes radians; start it with "
+                                             "+step +proj=unitconvert +xy_in=deg +xy_out=rad (as projinfo prints it)");
+  }
   return op;
 }
 
@@ -875,29 +909,67 @@ Auditor::Impl::Impl(const AuditOptions& o) : options(o), ctx(detail::make_contex
     return;
   }
   if (edge_h) op_c_to_p = normalized_operation(c, edge_h.get(), geog_p.get(), "the operation from the edge CRS");
-  PJ_OPERATION_FACTORY_CONTEXT* factory = proj_create_operation_factory_context(c, nullptr);
-  proj_operation_factory_context_set_grid_availability_use(c, factory,
-                                                           PROJ_GRID_AVAILABILITY_DISCARD_OPERATION_IF_MISSING_GRID);
-  proj_operation_factory_context_set_spatial_criterion(c, factory, PROJ_SPATIAL_CRITERION_PARTIAL_INTERSECTION);
-  PJ_OBJ_LIST* list = proj_create_operations(c, src_geog.get(), tgt.get(), factory);
-  const int count = list ? proj_list_get_count(list) : 0;
-  for (int i = 0; i < count && !op_full; ++i) {
-    Pj candidate(proj_list_get(c, list, i));
-    if (!candidate || !proj_coordoperation_is_instantiable(c, candidate.get())) continue;
-    Pj normalized(proj_normalize_for_visualization(c, candidate.get()));
-    if (!normalized) continue;
-    if (const char* name = proj_get_name(candidate.get())) transform.name = name;
-    const double accuracy = proj_coordoperation_get_accuracy(c, candidate.get());
-    if (accuracy >= 0) transform.accuracy_m = accuracy;
-    transform.is_ballpark = proj_coordoperation_has_ballpark_transformation(c, candidate.get()) != 0;
-    if (const char* def = proj_as_proj_string(c, candidate.get(), PJ_PROJ_5, nullptr)) transform.proj_string = def;
-    op_full = std::move(normalized);
+  datum_shift = true;
+  if (!o.datum_operation.empty() && is_database_code(o.datum_operation)) {
+    candidates = std::make_shared<const detail::DatumCandidates>(c, src_geog.get(), tgt.get());
+    pinned = candidates->find(o.datum_operation);
+  } else if (!o.datum_operation.empty()) {
+    op_pinned = pinned_pipeline(c, o.datum_operation);
+  } else {
+    candidates = std::make_shared<const detail::DatumCandidates>(c, src_geog.get(), tgt.get());
   }
-  if (list) proj_list_destroy(list);
-  proj_operation_factory_context_destroy(factory);
-  if (!op_full) {
+  if (op_pinned) {
+    transform.name = "pinned pipeline";
+    transform.proj_string = o.datum_operation;
+    check_pinned_pipeline(c, src_geog.get(), tgt.get());
+    return;
+  }
+  const std::size_t shown = pinned ? *pinned : candidates->first_usable();
+  const DatumOperation& d = candidates->operations()[shown];
+  transform.name = d.name;
+  transform.accuracy_m = d.accuracy_m;
+  transform.is_ballpark = d.is_ballpark;
+  transform.proj_string = candidates->pipeline(shown);
+}
+
+PJ* Auditor::Impl::datum_op(const AreaOfUse& box, std::optional<std::size_t>& index) const {
+  index.reset();
+  if (op_pinned) return op_pinned.get();
+  if (!candidates) return nullptr;
+  index = pinned ? pinned : candidates->choose(box.west_deg, box.south_deg, box.east_deg, box.north_deg);
+  if (!index) index = candidates->first_usable();  // no candidate's area covers the point
+  auto cached = op_cache.find(*index);
+  if (cached == op_cache.end()) {
+    Pj op(proj_create(ctx.get(), candidates->pipeline(*index).c_str()));
+    if (!op) {
+      throw Error(ErrorCode::no_transformation,
+                  "cannot instantiate '" + candidates->operations()[*index].name + "': " + detail::last_error(ctx.get()));
+    }
+    cached = op_cache.emplace(*index, std::move(op)).first;
+  }
+  return cached->second.get();
+}
+
+void Auditor::Impl::check_pinned_pipeline(PJ_CONTEXT* c, const PJ* src_geog, const PJ* tgt) const {
+  // A pipeline has no CRSs to compare: it must land where PROJ's own choice lands, within 1 km (datum shifts
+  // between the same region's datums are below that; a pipeline to another CRS or in other units is not), at
+  // the centre of the target's area of use.
+  const AreaOfUse aou = target.area_of_use.value_or(AreaOfUse{});
+  const Coord centre{aou.west_deg <= aou.east_deg ? (aou.west_deg + aou.east_deg) / 2
+                                                  : std::remainder((aou.west_deg + aou.east_deg + 360) / 2, 360.0),
+                     (aou.south_deg + aou.north_deg) / 2};
+  const detail::DatumCandidates reference(c, src_geog, tgt);
+  const std::optional<std::size_t> i = reference.choose(centre.x, centre.y, centre.x, centre.y);
+  Pj expected(proj_create(c, reference.pipeline(i ? *i : reference.first_usable()).c_str()));
+  const PJ_COORD want = proj_trans(expected.get(), PJ_FWD, proj_coord(centre.x, centre.y, 0, 0));
+  const PJ_COORD got = proj_trans(op_pinned.get(), PJ_FWD, proj_coord(centre.x, centre.y, 0, 0));
+  const double apart_m = std::hypot(got.xy.x - want.xy.x, got.xy.y - want.xy.y) * unit_m;
+  if (!(apart_m <= 1000)) {
     throw Error(ErrorCode::no_transformation,
-                "PROJ has no usable operation from '" + o.source_crs + "' to '" + o.target_crs + "'");
+                "the pinned pipeline does not transform from '" + options.source_crs + "' to '" + options.target_crs +
+                    "': at (" + std::to_string(centre.x) + ", " + std::to_string(centre.y) + ") it gives (" +
+                    std::to_string(got.xy.x) + ", " + std::to_string(got.xy.y) + "), PROJ's own operation (" +
+                    std::to_string(want.xy.x) + ", " + std::to_string(want.xy.y) + ")");
   }
 }
 
@@ -911,7 +983,10 @@ std::unique_ptr<Auditor::Impl> Auditor::Impl::clone() const {
   copy->ctx = detail::make_context();
   PJ_CONTEXT* c = copy->ctx.get();
   copy->op_proj = clone_into(c, op_proj);
-  copy->op_full = clone_into(c, op_full);
+  copy->datum_shift = datum_shift;
+  copy->candidates = candidates;
+  copy->pinned = pinned;
+  copy->op_pinned = clone_into(c, op_pinned);
   copy->op_fast = clone_into(c, op_fast);
   copy->op_source = clone_into(c, op_source);
   copy->op_s_to_c = clone_into(c, op_s_to_c);
@@ -985,7 +1060,8 @@ bool Auditor::Impl::transform_array(PJ* op, PJ_DIRECTION dir, std::vector<Coord>
   return std::all_of(pts.begin(), pts.end(), finite);
 }
 
-std::string Auditor::Impl::transform_vertices(std::vector<WorkPath>& paths, std::vector<Coord>& points_lonlat_p,
+std::string Auditor::Impl::transform_vertices(PJ* op_full, const std::string& op_name, std::vector<WorkPath>& paths,
+                                              std::vector<Coord>& points_lonlat_p,
                                               std::vector<Coord>& points_xy,
                                               const std::vector<Coord>& points_s) const {
   auto one = [&](const std::vector<Coord>& lonlat_s, std::vector<Coord>& lonlat_p, std::vector<Coord>& xy,
@@ -997,8 +1073,9 @@ std::string Auditor::Impl::transform_vertices(std::vector<WorkPath>& paths, std:
       return {};
     }
     xy = lonlat_s;
-    if (!transform_array(op_full.get(), PJ_FWD, xy)) {
-      return what + " cannot be transformed to the target CRS (" + transform.name + ")";
+    if (!transform_array(op_full, PJ_FWD, xy)) {
+      return what + " cannot be transformed to the target CRS (" +
+             op_name + ")";
     }
     lonlat_p = xy;
     if (!transform_array(op_fast.get(), PJ_INV, lonlat_p)) {
@@ -1319,7 +1396,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
       std::all_of(problems.begin(), problems.end(), [](const Problem& p) { return is_topology(p.code); })) {
     Repair fixed = repair(converted ? *converted : input);
     if (fixed.repaired) {
-      repair_note = fixed.note + "; was: " + describe(problems);
+      repair_note = fixed.note + "; was: " + describe(problems, kProblemsListed);
       converted = std::move(fixed.geometry);
       problems.clear();
     } else {
@@ -1328,7 +1405,8 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   }
   if (!problems.empty()) {
     r.status = Status::invalid;
-    r.message = describe(problems);
+    r.message = describe(problems, kProblemsListed);
+    if (!op_source && looks_projected(input)) r.message = std::string(looks_projected_text) + ": " + r.message;
     return r;
   }
   const Geometry& g = converted ? *converted : input;
@@ -1364,7 +1442,23 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
 
   // 2. Datum transformation and projection of the vertices (a failure is reported after the truth).
   std::vector<Coord> points_p, points_xy;
-  std::string transform_failure = transform_vertices(paths, points_p, points_xy, points_s);
+  // The datum transformation PROJ would apply at the centre of the feature's bounding box, for all its vertices.
+  PJ* op_full = nullptr;
+  if (datum_shift) {
+    constexpr double inf = std::numeric_limits<double>::infinity();
+    double west = inf, south = inf, east = -inf, north = -inf;
+    auto extend = [&](const std::vector<Coord>& pts) {
+      for (const Coord& p : pts) {
+        west = std::min(west, p.x), east = std::max(east, p.x);
+        south = std::min(south, p.y), north = std::max(north, p.y);
+      }
+    };
+    for (const WorkPath& path : paths) extend(path.lonlat_s);
+    extend(points_s);
+    op_full = datum_op(AreaOfUse{"", west, south, east, north}, r.datum_operation);
+  }
+  const std::string& op_name = r.datum_operation ? candidates->operations()[*r.datum_operation].name : transform.name;
+  std::string transform_failure = transform_vertices(op_full, op_name, paths, points_p, points_xy, points_s);
   if (source_is_target && transform_failure.empty() && repair_note.empty()) {
     // The grid measure is what a GIS computes from the coordinates as given, not from their round trip through
     // longitude and latitude (which moves them by nanometres).
@@ -1394,7 +1488,7 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
   //    straight edges the same pieces give E_P. One inverse per edge (or piece) feeds truth, densification and
   //    bearings.
   std::vector<EllipsoidWalk> walk_s(paths.size()), walk_p_own;
-  const bool separate_target = op_full != nullptr;
+  const bool separate_target = datum_shift;
   if (separate_target) walk_p_own.resize(paths.size());
   CompensatedSum lat_sum;
   std::size_t lat_count = 0;
@@ -1699,7 +1793,7 @@ std::string Auditor::Impl::projected_vertices_problem(const std::vector<WorkPath
   // away from its representative point. With a datum transformation lonlat_p is the inverse of xy, so the
   // forward projection is compared instead.
   constexpr std::size_t kChecked = 4;
-  const bool inverse = op_full == nullptr;
+  const bool inverse = !datum_shift;
   const double a_m = target.ellipsoid.a_m;
   if (!paths.empty()) {
     return detail::round_trip_problem(op_fast.get(), paths.front().lonlat_p, paths.front().xy, inverse, unit_m,
@@ -1742,11 +1836,12 @@ std::vector<AuditResult> Auditor::audit(const std::vector<Geometry>& geometries)
 
 PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
   const Coord lonlat = impl_->to_source_lonlat({lon_deg, lat_deg});
-  if (!impl_->op_full) return impl_->factors_p(lonlat.x, lonlat.y);
+  if (!impl_->datum_shift) return impl_->factors_p(lonlat.x, lonlat.y);
   std::vector<Coord> pt{lonlat};
   // Through the datum transformation to the target plane, then back to its geographic CRS.
   auto& self = *impl_;
-  proj_trans_generic(self.op_full.get(), PJ_FWD, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
+  std::optional<std::size_t> index;
+  proj_trans_generic(self.datum_op(AreaOfUse{"", lonlat.x, lonlat.y, lonlat.x, lonlat.y}, index), PJ_FWD, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
                      0, 0, nullptr, 0, 0);
   proj_trans_generic(self.op_proj.get(), PJ_INV, &pt[0].x, sizeof(Coord), 1, &pt[0].y, sizeof(Coord), 1, nullptr,
                      0, 0, nullptr, 0, 0);
@@ -1756,7 +1851,9 @@ PointFactors Auditor::factors(double lon_deg, double lat_deg) const {
 
 Coord Auditor::project(double lon_deg, double lat_deg) const {
   const Coord lonlat = impl_->to_source_lonlat({lon_deg, lat_deg});
-  PJ* op = impl_->op_full ? impl_->op_full.get() : impl_->op_proj.get();
+  std::optional<std::size_t> index;
+  PJ* op = impl_->datum_shift ? impl_->datum_op(AreaOfUse{"", lonlat.x, lonlat.y, lonlat.x, lonlat.y}, index)
+                               : impl_->op_proj.get();
   const PJ_COORD out = proj_trans(op, PJ_FWD, proj_coord(lonlat.x, lonlat.y, 0, 0));
   Coord c{out.xy.x, out.xy.y};
   if (!finite(c)) c = {kNaN, kNaN};
@@ -1767,6 +1864,13 @@ const AuditOptions& Auditor::options() const noexcept { return impl_->options; }
 const CrsInfo& Auditor::source() const noexcept { return impl_->source; }
 const CrsInfo& Auditor::target() const noexcept { return impl_->target; }
 const TransformInfo& Auditor::transform() const noexcept { return impl_->transform; }
+const std::vector<DatumOperation>& Auditor::datum_operations() const noexcept {
+  static const std::vector<DatumOperation> none;
+  return impl_->candidates ? impl_->candidates->operations() : none;
+}
+std::vector<std::string> Auditor::datum_warnings(const std::vector<std::size_t>& used) const {
+  return impl_->candidates ? impl_->candidates->warnings(used) : std::vector<std::string>{};
+}
 const EdgeSpec& Auditor::edges() const noexcept { return impl_->edges; }
 
 EdgeSpec EdgeSpec::parse(std::string_view text) {

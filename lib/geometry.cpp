@@ -255,13 +255,34 @@ std::vector<Problem> validate(const Geometry& geometry) {
   return problems;
 }
 
-std::string describe(const std::vector<Problem>& problems) {
+std::string describe(const std::vector<Problem>& problems) { return describe(problems, problems.size()); }
+
+std::string describe(const std::vector<Problem>& problems, std::size_t max_listed) {
   std::string text;
-  for (const Problem& p : problems) {
+  for (std::size_t i = 0; i < problems.size() && i < max_listed; ++i) {
     if (!text.empty()) text += "; ";
-    text += p.message;
+    text += problems[i].message;
   }
+  if (problems.size() > max_listed) text += "; and " + std::to_string(problems.size() - max_listed) + " more";
   return text;
 }
+
+bool looks_projected(const Geometry& geometry) {
+  std::size_t finite = 0, beyond = 0;
+  auto count = [&](const Coord& c) {
+    if (!std::isfinite(c.x) || !std::isfinite(c.y)) return;
+    ++finite;
+    if (std::abs(c.x) > 360 || std::abs(c.y) > 90) ++beyond;
+  };
+  for (const Coord& c : geometry.points) count(c);
+  for (const Path& line : geometry.lines) std::for_each(line.begin(), line.end(), count);
+  for (const Polygon& polygon : geometry.polygons) {
+    std::for_each(polygon.outer.begin(), polygon.outer.end(), count);
+    for (const Path& hole : polygon.holes) std::for_each(hole.begin(), hole.end(), count);
+  }
+  return finite > 0 && 2 * beyond > finite;
+}
+
+const char* const looks_projected_text = "coordinates look projected (e.g. feet/metres); pass --source-crs";
 
 }  // namespace gridtruth

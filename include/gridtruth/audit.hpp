@@ -82,6 +82,11 @@ struct AuditOptions {
   /// outside or nested, disconnected interior, overlapping parts) are made valid by repair() and audited; the
   /// result's message starts with "repaired ..." and lists what was wrong. Off: such features are `invalid`.
   bool repair = false;
+  /// Pins the datum transformation for reproducible runs: an operation PROJ's database names ("EPSG:1173"), which
+  /// must be a candidate between the source CRS and the target (possibly as one step of it, or inverted), or a
+  /// PROJ pipeline taking source longitude, latitude (degrees) to the target's easting, northing (its unit).
+  /// Empty: per feature, the operation PROJ's own default would apply to the feature (see datum_operations()).
+  std::string datum_operation;
 };
 
 /// One measure (length in m, or area in m²) with its budget.
@@ -208,6 +213,21 @@ struct AuditResult {
   /// pass or fail against AuditOptions::tolerances; none when no tolerance applies or the status is not ok.
   Verdict verdict = Verdict::none;
   std::vector<std::string> failed;  ///< the tolerances that failed, canonical text (empty on pass)
+  /// The datum transformation applied to this feature: an index into Auditor::datum_operations(). Absent when
+  /// none applies (identity, a pinned PROJ pipeline) or the feature never got that far (invalid input).
+  std::optional<std::size_t> datum_operation;
+};
+
+/// One candidate operation PROJ found between the source CRS and the target (datum transformation + projection).
+struct DatumOperation {
+  std::string name;                  ///< PROJ's name, e.g. "Inverse of NAD27 to WGS 84 (6) + UTM zone 15N"
+  std::optional<double> accuracy_m;  ///< stated accuracy (metres) when PROJ knows one
+  bool is_ballpark = false;          ///< a ballpark (approximate, error up to hundreds of metres) operation
+  bool grids_available = true;       ///< every grid it needs is installed (PROJ's search path; network stays off)
+  std::vector<std::string> missing_grids;  ///< the short names of the grids it needs and lacks
+  std::optional<AreaOfUse> area;     ///< its area of use (bounding box, degrees)
+  bool usable = false;               ///< PROJ can apply it here (grids present); only these are ever chosen
+  std::string proj_string;           ///< the pipeline (lon, lat degrees → easting, northing) when usable
 };
 
 /// The datum transformation used between S and P's base geographic CRS.
@@ -280,8 +300,21 @@ class Auditor {
   const CrsInfo& source() const noexcept;
   /// What the target CRS resolved to (projected).
   const CrsInfo& target() const noexcept;
-  /// The datum transformation chosen between the source CRS and the target's base geographic CRS.
+  /// The datum transformation chosen between the source CRS and the target's base geographic CRS. Without a
+  /// pinned operation features may use different ones (AuditResult::datum_operation): this is the first usable
+  /// candidate in PROJ's order.
   const TransformInfo& transform() const noexcept;
+  /// Every candidate PROJ found from the source CRS to the target, usable or not, in PROJ's order (grids known to
+  /// be available first, then by accuracy and area); empty when no datum transformation applies. Without
+  /// AuditOptions::datum_operation each feature uses the operation PROJ's default picks for it: the one
+  /// proj_create_crs_to_crs, given the feature's bounding box (source longitude, latitude) as area of interest,
+  /// applies at the box's centre (only operations whose grids are installed; no network). All vertices of a
+  /// feature use that operation. The choice is cached per pattern of the box against the candidates' areas.
+  const std::vector<DatumOperation>& datum_operations() const noexcept;
+  /// Warnings about the datum transformation of features that used the given datum_operations() indices (one
+  /// sentence each): a ballpark operation, or one worse than 1 m, applied where a better candidate needs a grid
+  /// that is not installed (named, with how to get it). Empty when there is nothing to say.
+  std::vector<std::string> datum_warnings(const std::vector<std::size_t>& used) const;
   /// The edge model in force (AuditOptions::edges, or its default).
   const EdgeSpec& edges() const noexcept;
 

@@ -129,5 +129,14 @@ Repair repair(const Geometry& geometry);
 
 /// The problems of validate() joined by "; " (empty when valid).
 std::string describe(const std::vector<Problem>& problems);
+/// The first `max_listed` problems joined by "; ", then "; and N more" when there are more (empty when valid).
+/// An auditor's messages list at most 3, so a feature with many bad vertices stays short.
+std::string describe(const std::vector<Problem>& problems, std::size_t max_listed);
+
+/// True when most (more than half) of the finite vertices have |x| > 360 or |y| > 90: values no longitude and
+/// latitude in degrees take, typical of projected coordinates (feet or metres) read as geographic ones.
+bool looks_projected(const Geometry& geometry);
+/// The message start an auditor gives a geographic feature for which looks_projected() holds.
+extern const char* const looks_projected_text;
 
 }  // namespace gridtruth
