@@ -493,7 +493,6 @@ int main(int argc, char** argv) {
       cli::standard_input_closed() = true;
   }
   std::ios::sync_with_stdio(false);
-  std::cin.tie(nullptr);  // the input is read on a worker thread while rows go to std::cout (issue 17)
   CLI::App app{"gridtruth: how wrong do lengths and areas become on the grid of a projected CRS?"};
   app.name("gridtruth");
   app.set_version_flag("--version", std::string("gridtruth ") + GRIDTRUTH_VERSION);

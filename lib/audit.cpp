@@ -562,7 +562,7 @@ class PathDensifier {
       first = false;
       const double c = chord(p0, p1);
       const detail::EdgeQuadrature::Result q =
-          quadrature_.integrate(curve, edge_m, p0, pm, p1, mid_lonlat, op_, radius_, kQuadratureShare * tolerance_,
+          quadrature_.integrate(curve, edge_m, p0, pm, p1, op_, radius_, kQuadratureShare * tolerance_,
                                 kQuadratureShare * tolerance_ * c, samples_);
       densified_ += q.points;
       if (q.accepted) {

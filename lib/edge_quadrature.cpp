@@ -168,7 +168,7 @@ int EdgeQuadrature::predicted_order(double chord, double sagitta, double radius,
 }
 
 EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double length_param, const Coord& p0,
-                                                 const Coord& pm, const Coord& p1, const Coord& mid_lonlat, PJ* op,
+                                                 const Coord& pm, const Coord& p1, PJ* op,
                                                  double radius, double length_target, double area_target,
                                                  std::vector<Coord>& samples) {
   Result res;

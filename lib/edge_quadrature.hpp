@@ -49,12 +49,12 @@ class EdgeQuadrature {
   static constexpr int kMaxOrder = 64;
 
   /// Integrates the image of `curve` over [0, length_param], whose ends project to p0 and p1 and whose midpoint
-  /// (lon/lat `mid_lonlat`) projects to pm. `op` projects (lon, lat) degrees to the plane; `radius` is the
+  /// projects to pm. `op` projects (lon, lat) degrees to the plane; `radius` is the
   /// Earth's radius in the plane's unit. Starts at the order predicted_order() gives and doubles it until both
   /// estimates are within `length_target` and `area_target` (or kMaxOrder is passed). Appends every node's
   /// lon/lat to `samples`. Never throws for a bad edge: a node that cannot be projected ends the attempt.
   Result integrate(const Curve& curve, double length_param, const Coord& p0, const Coord& pm, const Coord& p1,
-                   const Coord& mid_lonlat, PJ* op, double radius, double length_target, double area_target,
+                   PJ* op, double radius, double length_target, double area_target,
                    std::vector<Coord>& samples);
 
   /// The smallest even order ≥ 4 whose predicted area estimate is within `area_target`, from the chord, the
