@@ -73,6 +73,8 @@ struct AuditArgs {
   unsigned threads = 0;
   bool repair = false;
   bool bounds = false;
+  bool height_from_z = false;
+  bool all_digits = false;
 };
 
 /// The GeoPackage layer's name: the file's name without its directory and extension ("audit" if that is empty).
@@ -88,7 +90,8 @@ class ExtraColumns {
  public:
   /// `keep`: "" (none), "all" (the attributes of `first`, the first feature read) or comma-separated names.
   ExtraColumns(const cli::SummaryUnits& units, const std::string& keep, const InputFeature* first,
-               bool combined_factor) {
+               bool combined_factor, bool all_digits)
+      : all_digits_(all_digits) {
     auto suffix = [](const std::string& symbol) {
       if (symbol == "ac") return std::string("ac");
       if (symbol == "acUS") return std::string("us_ac");
@@ -132,8 +135,11 @@ class ExtraColumns {
   void cells(const InputFeature& feature, const AuditResult* result, std::vector<std::string>& out) const {
     out.clear();
     auto budget = [&](const std::optional<Budget>& b, double unit) {
-      for (const double v : {b ? b->reference : NAN, b ? b->grid : NAN, b ? b->error : NAN})
-        out.push_back(format_number(v / unit));
+      if (!b) return out.resize(out.size() + 3);
+      // Rounded as the SI columns are: each to a tenth of its bound (in the unit), unless --all-digits.
+      for (const auto& [v, bound] : {std::pair{b->reference, b->reference_bound}, std::pair{b->grid, b->grid_bound},
+                                     std::pair{b->error, b->error_computation_bound}})
+        out.push_back(all_digits_ ? format_number(v / unit) : format_number(v / unit, bound / unit));
     };
     if (length_m_) budget(result ? result->length : std::nullopt, length_m_);
     if (area_m2_) budget(result ? result->area : std::nullopt, area_m2_);
@@ -153,6 +159,7 @@ class ExtraColumns {
  private:
   std::vector<std::string> names_, keys_;
   double length_m_ = 0, area_m2_ = 0;  // 0: no such columns
+  bool all_digits_ = false;
 };
 
 /// One line on standard error: the reason the run could not go on.
@@ -220,7 +227,7 @@ int run_audit(const AuditArgs& args) {
       return fail_run("--area-of-use-margin must be a number of degrees >= 0 or \"off\" (got \"" +
                       args.area_of_use_margin + "\")");
   }
-  const bool with_heights = args.height_m != 0 || !args.height_field.empty();
+  const bool with_heights = args.height_m != 0 || !args.height_field.empty() || args.height_from_z;
   cli::SummaryUnits units;
   ReaderOptions reader_options;
   try {
@@ -234,6 +241,7 @@ int run_audit(const AuditArgs& args) {
   reader_options.id_field = args.id_field;
   reader_options.wkt_field = args.wkt_field;
   reader_options.height_field = args.height_field;
+  reader_options.height_from_z = args.height_from_z;
   reader_options.layer = args.layer;
 
   std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
@@ -300,6 +308,7 @@ int run_audit(const AuditArgs& args) {
                         args.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
       });
       geojson->with_combined_factor(with_heights);
+      geojson->with_all_digits(args.all_digits);
     }
     if (!args.gpkg.empty()) {
       gpkg_file = cli::OutputFile::for_named_writer(args.gpkg, ".gpkg");
@@ -311,7 +320,8 @@ int run_audit(const AuditArgs& args) {
     writer.emplace(out_file->stream());
     writer->with_combined_factor(with_heights);
     writer->with_bounds(args.bounds);
-    extra.emplace(units, args.keep_fields, first, with_heights);
+    writer->with_all_digits(args.all_digits);
+    extra.emplace(units, args.keep_fields, first, with_heights, args.all_digits);
     writer->with_extra_columns(extra->names());
     writer->write_header();
   };
@@ -434,7 +444,8 @@ const char* audit_footer =
     "  angular_distortion_max_deg, convergence_min_deg, convergence_max_deg, bearing_error_max_arcsec, verdict\n"
     "  error = grid - true = from_edges + from_scale + from_datum + from_height; '+' means the grid overstates.\n"
     "  A polygon's length is its perimeter (all rings).\n"
-    "  With --height or --height-field a last column, combined_factor, gives mean grid scale x R/(R + h):\n"
+    "  Each length, area and budget part is rounded to a tenth of its bound (see --bounds; --all-digits: in full).\n"
+    "  With --height, --height-field or --height-from-z a last column, combined_factor, gives mean grid scale x R/(R + h):\n"
     "  the factor a surveyor multiplies ground distances by to get grid distances.\n"
     "\n"
     "Edges (--edges): the same vertices joined by different curves enclose different areas.\n"
@@ -515,6 +526,11 @@ int main(int argc, char** argv) {
   audit->add_option("--height-field", args.height_field,
                     "property or column holding each feature's ellipsoidal height in metres (instead of --height)")
       ->excludes(audit->get_option("--height"));
+  audit->add_flag("--height-from-z", args.height_from_z,
+                  "take each feature's ellipsoidal height from its Z coordinates (the mean of its positions' Z, "
+                  "metres; GeoJSON altitude, WKT Z, 3D layers); a feature with a position lacking Z is invalid")
+      ->excludes(audit->get_option("--height"))
+      ->excludes(audit->get_option("--height-field"));
   audit->add_option("--edges", args.edges,
                     "what an edge means: geodesic (default for geographic input), rhumb, or straight-in=CRS "
                     "(default for projected input: straight in the source CRS)");
@@ -525,6 +541,9 @@ int main(int argc, char** argv) {
   audit->add_flag("--bounds", args.bounds,
                   "add a bound column after the others for R, G, the error and each budget part "
                   "(*_bound_m, *_bound_m2: how far each printed figure may be from its exact value)");
+  audit->add_flag("--all-digits", args.all_digits,
+                  "write every CSV number in full (the shortest text that reads back to the same double) instead "
+                  "of rounding each figure to a tenth of its bound");
   audit->add_flag("--repair", args.repair,
                   "make polygons with invalid topology (self-crossing rings, holes outside, overlapping parts, "
                   "spikes) valid by the even-odd rule and audit them; their message says so (default: invalid)");

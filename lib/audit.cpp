@@ -347,8 +347,10 @@ void set_bounds(Budget& b, const MeasureBounds& m) {
   b.densified_grid_bound = m.d;
   b.grid_bound = m.g;
   const double u = kUnitRoundoff;
-  b.from_datum_bound = m.e_p + m.e_s + m.datum + u * std::fabs(b.from_datum);
-  b.error_bound = m.g + m.reference + m.datum + u * std::fabs(b.error);
+  b.from_datum_computation_bound = m.e_p + m.e_s + u * std::fabs(b.from_datum);
+  b.error_computation_bound = m.g + m.reference + u * std::fabs(b.error);
+  b.from_datum_bound = b.from_datum_computation_bound + m.datum;
+  b.error_bound = b.error_computation_bound + m.datum;
   b.from_edges_bound = m.g + m.d + u * std::fabs(b.from_edges);
   b.from_scale_bound = m.d + m.e_p + u * std::fabs(b.from_scale);
   b.from_height_bound = m.e_s + m.reference + u * std::fabs(b.from_height);

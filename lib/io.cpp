@@ -5,6 +5,7 @@
 #include <cctype>
 #include <cerrno>
 #include <charconv>
+#include <algorithm>
 #include <cmath>
 #include <cstring>
 #include <fstream>
@@ -175,7 +176,11 @@ struct FeatureReader::Impl {
   bool done = false;
 
   Impl(std::istream& in, ReaderOptions o, std::unique_ptr<std::istream> f = nullptr)
-      : file(std::move(f)), source(in), options(std::move(o)) {}
+      : file(std::move(f)), source(in), options(std::move(o)) {
+    if (options.height_from_z && !options.height_field.empty())
+      throw Error(ErrorCode::invalid_argument, "a feature's height comes either from the field \"" +
+                                                   options.height_field + "\" or from its Z coordinates, not both");
+  }
   /// Sniffs the format and makes its reader, once.
   void open_reader();
 };
@@ -360,11 +365,64 @@ void append_number(std::string& out, double value) {
   out.append(buf, end);
 }
 
+void append_number(std::string& out, double value, double bound) {
+  if (!std::isfinite(value)) return;
+  if (!(bound > 0) || !std::isfinite(bound)) return append_number(out, value);
+  // A tenth of the bound's leading digit, never coarser than units.
+  const int decimals = std::max(0, 1 - static_cast<int>(std::floor(std::log10(bound))));
+  const double magnitude = std::fabs(value);
+  const int whole_digits = magnitude >= 1 ? static_cast<int>(std::floor(std::log10(magnitude))) + 1 : 0;
+  if (whole_digits + decimals > 17 || magnitude >= 1e15) return append_number(out, value);
+  char buf[64];
+  const auto [end, ec] = std::to_chars(buf, buf + sizeof buf, value, std::chars_format::fixed, decimals);
+  if (ec != std::errc()) return append_number(out, value);
+  std::string_view text(buf, static_cast<std::size_t>(end - buf));
+  if (text.find('.') != std::string_view::npos) {
+    while (text.back() == '0') text.remove_suffix(1);
+    if (text.back() == '.') text.remove_suffix(1);
+  }
+  if (text == "-0") text = "0";
+  out.append(text);
+}
+
+void append_bound(std::string& out, double bound) {
+  if (!std::isfinite(bound)) return;
+  if (bound <= 0) {
+    out += '0';
+    return;
+  }
+  const int e = static_cast<int>(std::floor(std::log10(bound)));
+  // Two significant digits, rounded up: the printed decimal is never below the bound.
+  double scaled = std::ceil(bound / std::pow(10.0, e - 1) * (1 - 4e-16));
+  int exponent = e - 1;
+  if (scaled * std::pow(10.0, exponent) < bound) scaled += 1;  // the division rounded down
+  if (scaled >= 100) scaled = std::ceil(scaled / 10), exponent += 1;
+  char buf[64];
+  const double value = scaled * std::pow(10.0, exponent);
+  const bool plain = value >= 1e-5 && value < 1e15;
+  const auto [end, ec] = plain ? std::to_chars(buf, buf + sizeof buf, value, std::chars_format::fixed,
+                                               std::max(0, -exponent))
+                               : std::to_chars(buf, buf + sizeof buf, value, std::chars_format::scientific, 1);
+  if (ec == std::errc()) out.append(buf, end);
+}
+
 }  // namespace detail
 
 std::string format_number(double value) {
   std::string text;
   detail::append_number(text, value);
+  return text;
+}
+
+std::string format_number(double value, double bound) {
+  std::string text;
+  detail::append_number(text, value, bound);
+  return text;
+}
+
+std::string format_bound(double bound) {
+  std::string text;
+  detail::append_bound(text, bound);
   return text;
 }
 

@@ -183,9 +183,17 @@ class CsvReader final : public FormatReader {
     }
     Geometry g;
     std::string error;
-    if (!parse_wkt(wkt, g, f.declared_type, error)) {
+    ZTally z;
+    if (!parse_wkt(wkt, g, f.declared_type, error, options_.height_from_z ? &z : nullptr)) {
       f.error = "line " + std::to_string(r.line) + ": " + error;
       return f;
+    }
+    if (options_.height_from_z) {
+      f.height_m = height_from_tally(z, error);
+      if (!f.height_m) {
+        f.error = "line " + std::to_string(r.line) + ": " + error;
+        return f;
+      }
     }
     if (height_column_) {
       const std::string cell = trim(r.fields[*height_column_]);

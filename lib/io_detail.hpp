@@ -120,14 +120,32 @@ std::string ogr_source_kind(const std::string& path, InputFormat format);
 /// Reads one layer of a GDAL vector data source (lib/gdal/vector_reader.cpp; only with GRIDTRUTH_WITH_GDAL).
 std::unique_ptr<FormatReader> make_ogr_reader(const std::string& path, const ReaderOptions& options);
 
+/// The Z ordinates (third ordinate of a position, not an M) a parser met, for ReaderOptions::height_from_z.
+struct ZTally {
+  double sum = 0;             ///< sum of the Z values
+  std::size_t with_z = 0;     ///< positions that have a Z
+  std::size_t without_z = 0;  ///< positions that have none
+  void add(double z) noexcept { sum += z, ++with_z; }
+  void none() noexcept { ++without_z; }
+};
+
+/// The feature's height from its Z ordinates (ReaderOptions::height_from_z): the mean Z when every position has
+/// one and the mean is finite; otherwise nullopt with `error` saying why.
+std::optional<double> height_from_tally(const ZTally& z, std::string& error);
+
 /// Non-throwing WKT parser behind parse_wkt(). On failure returns false with `error` set; `declared` is the
-/// geometry type named by the keyword when it was recognised (also on failure).
+/// geometry type named by the keyword when it was recognised (also on failure). With `z`, tallies each position's
+/// Z ordinate (a 3-ordinate position without a dimension keyword is X Y Z; "M" positions have no Z).
 bool parse_wkt(std::string_view text, Geometry& geometry, std::optional<GeometryType>& declared,
-               std::string& error);
+               std::string& error, ZTally* z = nullptr);
 
 bool is_json_space(int c) noexcept;
 
 /// Appends format_number(value) to `out` (nothing for NaN and infinities) without a string of its own.
 void append_number(std::string& out, double value);
+/// Appends format_number(value, bound) to `out`.
+void append_number(std::string& out, double value, double bound);
+/// Appends format_bound(bound) to `out`.
+void append_bound(std::string& out, double bound);
 
 }  // namespace gridtruth::detail

@@ -206,40 +206,45 @@ struct Where {
 };
 
 template <class A>
-Coord position(typename A::Value j, const Where& where) {
+Coord position(typename A::Value j, const Where& where, ZTally* z) {
   if (A::kind(j) != Kind::array)
     problem(where.text() + ": a position is an array of numbers (RFC 7946 section 3.1.1), found " +
             kind_name(A::kind(j)));
   const std::size_t n = A::size(j);
   if (n < 2) problem(where.text() + ": a position needs at least 2 numbers (RFC 7946 section 3.1.1), found " +
                      std::to_string(n));
-  double xy[2] = {0, 0};
+  double xyz[3] = {0, 0, 0};
+  const std::size_t wanted = z ? 3 : 2;  // the third number (RFC 7946 section 3.1.1: altitude) only for a height
   A::each(j, [&](std::size_t k, typename A::Value v) {
-    if (k >= 2) return;
+    if (k >= wanted) return;
     if (A::kind(v) != Kind::number)
       problem(where.text() + "[" + std::to_string(k) + "]: expected a number, found " + kind_name(A::kind(v)));
-    xy[k] = A::number(v);
+    xyz[k] = A::number(v);
   });
-  return Coord{xy[0], xy[1]};
+  if (z) {
+    if (n >= 3) z->add(xyz[2]);
+    else z->none();
+  }
+  return Coord{xyz[0], xyz[1]};
 }
 
 template <class A>
-Path positions(typename A::Value j, const Where& where) {
+Path positions(typename A::Value j, const Where& where, ZTally* z) {
   if (A::kind(j) != Kind::array)
     problem(where.text() + ": expected an array of positions, found " + kind_name(A::kind(j)));
   Path p;
   p.reserve(A::size(j));
-  A::each(j, [&](std::size_t k, typename A::Value v) { p.push_back(position<A>(v, Where{&where, k})); });
+  A::each(j, [&](std::size_t k, typename A::Value v) { p.push_back(position<A>(v, Where{&where, k}, z)); });
   return p;
 }
 
 template <class A>
-Polygon polygon(typename A::Value j, const Where& where) {
+Polygon polygon(typename A::Value j, const Where& where, ZTally* z) {
   if (A::kind(j) != Kind::array)
     problem(where.text() + ": expected an array of rings, found " + kind_name(A::kind(j)));
   Polygon poly;
   A::each(j, [&](std::size_t k, typename A::Value v) {
-    Path ring = positions<A>(v, Where{&where, k});
+    Path ring = positions<A>(v, Where{&where, k}, z);
     if (k == 0) poly.outer = std::move(ring);
     else poly.holes.push_back(std::move(ring));
   });
@@ -256,9 +261,10 @@ std::optional<GeometryType> geometry_type_named(const std::string& t) {
   return std::nullopt;
 }
 
-/// Converts a GeoJSON geometry object. `declared` is set as soon as the type is known.
+/// Converts a GeoJSON geometry object. `declared` is set as soon as the type is known. With `z`, tallies the
+/// positions' altitudes.
 template <class A>
-Geometry geometry(typename A::Value j, std::optional<GeometryType>& declared) {
+Geometry geometry(typename A::Value j, std::optional<GeometryType>& declared, ZTally* z) {
   if (A::kind(j) != Kind::object)
     problem("geometry: expected a GeoJSON geometry object, found " + kind_name(A::kind(j)));
   const auto t = A::member(j, "type");
@@ -281,33 +287,41 @@ Geometry geometry(typename A::Value j, std::optional<GeometryType>& declared) {
     case GeometryType::point:
       // RFC 7946 section 3.1 lets processors read an empty "coordinates" array as an empty geometry.
       if (empty_array) break;
-      g.points.push_back(position<A>(coords, where));
+      g.points.push_back(position<A>(coords, where, z));
       break;
-    case GeometryType::multi_point: g.points = positions<A>(coords, where); break;
+    case GeometryType::multi_point: g.points = positions<A>(coords, where, z); break;
     case GeometryType::line_string:
       if (empty_array) break;
-      g.lines.push_back(positions<A>(coords, where));
+      g.lines.push_back(positions<A>(coords, where, z));
       break;
     case GeometryType::multi_line_string:
       if (A::kind(coords) != Kind::array)
         problem(where.text() + ": expected an array of line strings, found " + kind_name(A::kind(coords)));
       A::each(coords, [&](std::size_t k, typename A::Value v) {
-        g.lines.push_back(positions<A>(v, Where{&where, k}));
+        g.lines.push_back(positions<A>(v, Where{&where, k}, z));
       });
       break;
     case GeometryType::polygon:
       if (empty_array) break;
-      g.polygons.push_back(polygon<A>(coords, where));
+      g.polygons.push_back(polygon<A>(coords, where, z));
       break;
     case GeometryType::multi_polygon:
       if (A::kind(coords) != Kind::array)
         problem(where.text() + ": expected an array of polygons, found " + kind_name(A::kind(coords)));
       A::each(coords, [&](std::size_t k, typename A::Value v) {
-        g.polygons.push_back(polygon<A>(v, Where{&where, k}));
+        g.polygons.push_back(polygon<A>(v, Where{&where, k}, z));
       });
       break;
   }
   return g;
+}
+
+/// The height from the tallied altitudes, or a FeatureProblem saying why there is none.
+inline double height_or_problem(const ZTally& z) {
+  std::string error;
+  const auto h = height_from_tally(z, error);
+  if (!h) problem(error);
+  return *h;
 }
 
 /// Fills `f` from one parsed GeoJSON value (a Feature or a bare geometry). NeedsReference passes through.
@@ -332,7 +346,9 @@ void feature_from_value(typename A::Value j, const ReaderOptions& options, Input
       if (!g) problem("Feature has no \"geometry\" member (RFC 7946 section 3.2)");
       if (A::kind(*g) == Kind::null)
         problem("Feature has a null geometry (an unlocated feature, RFC 7946 section 3.2)");
-      f.geometry = geometry<A>(*g, f.declared_type);
+      ZTally z;
+      f.geometry = geometry<A>(*g, f.declared_type, options.height_from_z ? &z : nullptr);
+      if (options.height_from_z) f.height_m = height_or_problem(z);
       if (!options.height_field.empty()) {
         const auto v = has_props ? A::member(*props, options.height_field) : std::nullopt;
         if (!v || A::kind(*v) == Kind::null)
@@ -349,7 +365,9 @@ void feature_from_value(typename A::Value j, const ReaderOptions& options, Input
       if (!options.height_field.empty()) {
         problem("a bare geometry has no properties, so no height property \"" + options.height_field + "\"");
       }
-      f.geometry = geometry<A>(j, f.declared_type);
+      ZTally z;
+      f.geometry = geometry<A>(j, f.declared_type, options.height_from_z ? &z : nullptr);
+      if (options.height_from_z) f.height_m = height_or_problem(z);
     }
   } catch (const FeatureProblem& p) {
     f.geometry.reset();

@@ -1,8 +1,9 @@
-// gridtruth — writing audit results as CSV (RFC 4180), numbers in their shortest round-trip form.
+// gridtruth — writing audit results as CSV (RFC 4180), each figure to the precision its bound supports.
 #include <charconv>
 #include <cmath>
 #include <ostream>
 #include <string>
+#include <utility>
 
 #include "gridtruth/io.hpp"
 #include "io_detail.hpp"
@@ -65,12 +66,23 @@ void append_csv_field(std::string& line, std::string_view text) {
   else line += csv_field(text);
 }
 
-/// Appends the 8 cells of a budget (empty when absent).
+/// Appends the 8 cells of a budget (empty when absent), each with the bound of its computation.
 void add_budget(ResultRow& row, const std::optional<Budget>& b) {
-  const double values[8] = {b ? b->reference : NAN,  b ? b->grid : NAN,       b ? b->error : NAN,
-                            b ? b->error_ppm : NAN,  b ? b->from_edges : NAN, b ? b->from_scale : NAN,
-                            b ? b->from_datum : NAN, b ? b->from_height : NAN};
-  for (const double v : values) row.cells[row.size++].number = v;
+  if (!b) {
+    for (int k = 0; k < 8; ++k) row.cells[row.size++].number = NAN;
+    return;
+  }
+  const double ppm_bound = b->reference != 0 ? 1e6 * b->error_computation_bound / std::fabs(b->reference) : NAN;
+  const std::pair<double, double> cells[8] = {
+      {b->reference, b->reference_bound},   {b->grid, b->grid_bound},
+      {b->error, b->error_computation_bound}, {b->error_ppm, ppm_bound},
+      {b->from_edges, b->from_edges_bound}, {b->from_scale, b->from_scale_bound},
+      {b->from_datum, b->from_datum_computation_bound}, {b->from_height, b->from_height_bound}};
+  for (const auto& [value, bound] : cells) {
+    ResultCell& cell = row.cells[row.size++];
+    cell.number = value;
+    cell.bound = bound;
+  }
 }
 
 /// Appends the 7 bound cells of a budget (empty when absent).
@@ -79,7 +91,11 @@ void add_budget_bounds(ResultRow& row, const std::optional<Budget>& b) {
                             b ? b->error_bound : NAN,      b ? b->from_edges_bound : NAN,
                             b ? b->from_scale_bound : NAN, b ? b->from_datum_bound : NAN,
                             b ? b->from_height_bound : NAN};
-  for (const double v : values) row.cells[row.size++].number = v;
+  for (const double v : values) {
+    ResultCell& cell = row.cells[row.size++];
+    cell.number = v;
+    cell.is_bound = true;
+  }
 }
 
 }  // namespace
@@ -107,7 +123,15 @@ ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_fa
       d ? d->scale_min : NAN,       d ? d->scale_max : NAN,           d ? d->areal_scale_min : NAN,
       d ? d->areal_scale_max : NAN, d ? d->angular_distortion_max_deg : NAN, d ? d->convergence_min_deg : NAN,
       d ? d->convergence_max_deg : NAN};
-  for (const double v : distortion) row.cells[row.size++].number = v;
+  // Their bounds for the rounding: the scale factors to 1e-8 relative and ω to 1.2e-7° (the numerically
+  // differentiated Tissot axes, each good to about 1e-9 relative, audit.hpp; tested at 1e-8 and 1.2e-7° in
+  // tests/reference_projection_test.cpp). The convergence's accuracy is not stated: written in full.
+  for (std::size_t k = 0; k < 7; ++k) {
+    ResultCell& cell = row.cells[row.size++];
+    cell.number = distortion[k];
+    if (k < 4) cell.bound = 1e-8 * std::fabs(distortion[k]);
+    else if (k == 4) cell.bound = 1.2e-7;
+  }
   row.cells[row.size++].number = r.bearing_error_max_arcsec ? *r.bearing_error_max_arcsec : NAN;
   row.cells[row.size++].text = to_string(r.verdict);
   if (combined_factor) row.cells[row.size++].number = r.combined_factor ? *r.combined_factor : NAN;
@@ -171,7 +195,11 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
                       std::to_chars(digits, digits + sizeof digits, static_cast<unsigned long long>(cell.number)).ptr);
         }
         break;
-      case ColumnKind::number: detail::append_number(line, cell.number); break;
+      case ColumnKind::number:
+        if (all_digits_) detail::append_number(line, cell.number);
+        else if (cell.is_bound) detail::append_bound(line, cell.number);
+        else detail::append_number(line, cell.number, cell.bound);
+        break;
     }
   }
   for (std::size_t k = 0; k < extra_columns_.size(); ++k) {

@@ -1,5 +1,5 @@
 // gridtruth — a simple-features WKT parser (ISO 19125-1 / OGC 06-103r4, section 7): the six geometry types of
-// gridtruth's model, EMPTY, and Z / M / ZM ordinates (extras dropped).
+// gridtruth's model, EMPTY, and Z / M / ZM ordinates (M dropped; Z dropped or tallied for a height).
 #include <cctype>
 #include <charconv>
 #include <cmath>
@@ -15,7 +15,7 @@ namespace {
 
 class WktParser {
  public:
-  explicit WktParser(std::string_view text) : s_(text) {}
+  WktParser(std::string_view text, ZTally* z) : s_(text), z_(z) {}
 
   bool parse(Geometry& g, std::optional<GeometryType>& declared, std::string& error) {
     skip_space();
@@ -58,6 +58,7 @@ class WktParser {
       else i_ = at;
     }
     ordinates_ = dims.empty() ? 0 : (dims == "ZM" ? 4 : 3);
+    measure_only_ = dims == "M";
 
     bool ok = true;
     switch (g.type) {
@@ -220,6 +221,10 @@ class WktParser {
                        std::to_string(ordinates_));
     c.x = v[0];
     c.y = v[1];
+    if (z_) {
+      if (n >= 3 && !measure_only_) z_->add(v[2]);
+      else z_->none();
+    }
     return true;
   }
 
@@ -289,6 +294,8 @@ class WktParser {
   std::string_view s_;
   std::size_t i_ = 0;
   std::size_t ordinates_ = 0;  // 0: 2 to 4 allowed
+  bool measure_only_ = false;  // "M": the third ordinate is a measure, not a Z
+  ZTally* z_ = nullptr;
   bool is_empty_ = false;
   std::string error_;
   std::size_t error_at_ = 0;
@@ -297,12 +304,30 @@ class WktParser {
 }  // namespace
 
 bool parse_wkt(std::string_view text, Geometry& geometry, std::optional<GeometryType>& declared,
-               std::string& error) {
+               std::string& error, ZTally* z) {
   geometry = Geometry{};
   declared.reset();
   error.clear();
-  WktParser parser(text);
+  WktParser parser(text, z);
   return parser.parse(geometry, declared, error);
+}
+
+std::optional<double> height_from_tally(const ZTally& z, std::string& error) {
+  if (z.with_z == 0) {
+    error = "no position has a Z coordinate to take the height from";
+    return std::nullopt;
+  }
+  if (z.without_z > 0) {
+    error = std::to_string(z.without_z) + " of " + std::to_string(z.with_z + z.without_z) +
+            " positions have no Z coordinate to take the height from";
+    return std::nullopt;
+  }
+  const double mean = z.sum / static_cast<double>(z.with_z);
+  if (!std::isfinite(mean)) {
+    error = "the mean of the Z coordinates is not a finite number of metres";
+    return std::nullopt;
+  }
+  return mean;
 }
 
 }  // namespace detail

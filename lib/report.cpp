@@ -1260,6 +1260,7 @@ void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geo
   std::ostringstream row;
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
+  csv.with_all_digits(all_digits_);
   csv.write_row(id, result);
   if (!transform_) {
     write_properties(id, row.str(), input_properties_json);

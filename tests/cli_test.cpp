@@ -339,9 +339,56 @@ TEST_F(CliTest, CsvHeaderRowsAndEmptyCellsFollowTheContract) {
   EXPECT_THAT(r.cell(hu07, "message"), HasSubstr("distinct"));
 }
 
+TEST_F(CliTest, EachFigureIsRoundedToATenthOfItsBoundAndNoFurther) {
+  // Issue 14: no round-off noise (e.g. -1.02e-12) past a figure's bound. The rounded CSV against the same run in
+  // full (--all-digits, with the bounds): every rounded figure lies within half its printed quantum, which is at
+  // most a tenth of its bound, of the full value (common practice: quote a figure to about a tenth of its
+  // uncertainty); a figure smaller than that reads 0.
+  const CliRun rounded = audit({demo_geojson, "--crs", "EPSG:32615", "--height", "250", "--bounds"});
+  const CliRun full = audit({demo_geojson, "--crs", "EPSG:32615", "--height", "250", "--bounds", "--all-digits"});
+  ASSERT_EQ(rounded.rows.size(), full.rows.size());
+  const auto& header = full.rows.at(0);
+  auto index = [&](const std::string& name) {
+    const auto it = std::find(header.begin(), header.end(), name);
+    EXPECT_NE(it, header.end()) << name;
+    return static_cast<std::size_t>(it - header.begin());
+  };
+  std::size_t checked = 0, zeroed = 0;
+  for (std::size_t row = 1; row < full.rows.size(); ++row) {
+    for (const std::string m : {"length", "area"}) {
+      const std::string u = m == "length" ? "_m" : "_m2";
+      const std::pair<std::string, std::string> figures[] = {
+          {"true_" + m + u, "true_" + m + "_bound" + u},   {"grid_" + m + u, "grid_" + m + "_bound" + u},
+          {m + "_error" + u, m + "_error_bound" + u},      {m + "_from_edges" + u, m + "_from_edges_bound" + u},
+          {m + "_from_scale" + u, m + "_from_scale_bound" + u}, {m + "_from_height" + u, m + "_from_height_bound" + u}};
+      for (const auto& [figure, bound_name] : figures) {
+        const std::string& text = rounded.rows[row][index(figure)];
+        const std::string& exact = full.rows[row][index(figure)];
+        EXPECT_EQ(text.empty(), exact.empty()) << figure;
+        if (exact.empty()) continue;
+        const double bound = std::stod(full.rows[row][index(bound_name)]);
+        ASSERT_GT(bound, 0) << figure;
+        const double value = std::stod(text), full_value = std::stod(exact);
+        const std::size_t dot = text.find('.');
+        const int decimals = dot == std::string::npos ? 0 : static_cast<int>(text.size() - dot - 1);
+        const double quantum = std::pow(10.0, -decimals);
+        EXPECT_LE(std::fabs(value - full_value), 0.5 * quantum * (1 + 1e-9) + 1e-15 * std::fabs(full_value))
+            << figure << " " << text << " vs " << exact;
+        EXPECT_LE(std::fabs(value - full_value), bound / 20 + 1e-15 * std::fabs(full_value)) << figure;
+        EXPECT_EQ(text.find_first_of("eE"), std::string::npos) << figure << " " << text;  // no noise exponent
+        if (std::fabs(full_value) < bound / 20 && text == "0") ++zeroed;
+        ++checked;
+      }
+    }
+  }
+  EXPECT_GT(checked, 50u);
+  EXPECT_GT(zeroed, 0u);  // some figure of the demo lies under a twentieth of its bound and prints 0
+}
+
 TEST_F(CliTest, NumbersObeyTheBudgetIdentities) {
   // DESIGN.md: error = G − R = from_edges + from_scale + from_datum + from_height; ppm = 10⁶ (G − R) / R.
-  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--height", "250"});
+  // In full (--all-digits): the identities of the doubles themselves, not of their rounded prints.
+  const CliRun r = audit({demo_geojson, "--crs", "EPSG:32615", "--height", "250", "--all-digits"});
   for (std::size_t k = 0; k < r.data_rows(); ++k) {
     if (r.cell(k, "status") != "ok") continue;
     for (const std::string m : {"length", "area"}) {
@@ -1110,7 +1157,7 @@ TEST_F(CliTest, KeptFieldsAndUnitColumnsFollowTheAuditColumns) {
     SCOPED_TRACE(c.units);
     const CliRun r = audit({path("plots.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:32615", "--id-field",
                             "id", "--units", c.units, "--keep-fields", "name,status,owner", "--tolerance",
-                            "length=1:20000"});
+                            "length=1:20000", "--all-digits"});
     ASSERT_EQ(r.rows.size(), 3u) << r.err;
     const auto& header = r.rows[0];
     // The audit table first, unchanged.

@@ -184,6 +184,39 @@ TEST_F(GdalIoTest, GeoJsonGeoPackageAndShapefileGiveTheSameRows) {
   EXPECT_EQ(gpkg.status, 1);
 }
 
+TEST_F(GdalIoTest, HeightFromZOfA3dGeoPackageIsTheMeanZ) {
+  // Issue 14: Z coordinates as ellipsoidal height (--height-from-z). A 3D layer written with GDAL's API; the mean Z
+  // of the positions as given is worked by hand (closing vertex included): ring (100, 120, 140, 120, 100) → 116,
+  // line (10, 30) → 20. The audit with the height taken from Z equals the audit at that height given by --height,
+  // cell for cell; a 2D feature in the same layer is invalid and named.
+  write_layer("GPKG", path("terrain.gpkg"), "sites", "EPSG:4326",
+              {{"R", "ridge",
+                "POLYGON Z ((-93.2 45.0 100,-93.18 45.0 120,-93.18 45.02 140,-93.2 45.02 120,-93.2 45.0 100))"},
+               {"L", "lane", "LINESTRING Z (-93.1 45.1 10,-93.05 45.12 30)"},
+               {"F", "flat", "LINESTRING (-93.1 45.1,-93.05 45.12)"}});
+  const CliRun z = audit({path("terrain.gpkg"), "--crs", "EPSG:32615", "--id-field", "id", "--height-from-z",
+                          "--all-digits"});
+  ASSERT_EQ(z.rows.size(), 4u) << z.err;
+  EXPECT_EQ(z.rows[0].back(), "combined_factor");
+  EXPECT_EQ(z.rows[3][2], "invalid");
+  EXPECT_THAT(z.rows[3][3], HasSubstr("no position has a Z"));
+  const struct {
+    std::size_t row;
+    const char* height;
+  } cases[] = {{1, "116"}, {2, "20"}};
+  for (const auto& c : cases) {
+    SCOPED_TRACE(z.rows[c.row][0]);
+    ASSERT_EQ(z.rows[c.row][2], "ok") << z.rows[c.row][3];
+    const CliRun at = audit({path("terrain.gpkg"), "--crs", "EPSG:32615", "--id-field", "id", "--height", c.height,
+                             "--all-digits"});
+    ASSERT_EQ(at.rows.size(), 4u) << at.err;
+    EXPECT_EQ(at.rows[c.row], z.rows[c.row]);
+    const CliRun flat = audit({path("terrain.gpkg"), "--crs", "EPSG:32615", "--id-field", "id", "--all-digits"});
+    ASSERT_EQ(flat.rows.size(), 4u) << flat.err;
+    EXPECT_NE(flat.rows[c.row], z.rows[c.row]);  // the height changed the figures: it was used
+  }
+}
+
 TEST_F(GdalIoTest, StatePlaneUsSurveyFeetShapefileNeedsNoSourceCrs) {
   // EPSG:2227 (NAD83 / California zone 3, US survey feet). A 1000 ft × 800 ft rectangle audited in its own CRS:
   // the grid area is the planar area in the CRS's unit times (1200/3937 m/ft)² (the US survey foot, NIST
@@ -288,7 +321,7 @@ TEST_F(GdalIoTest, GeoPackageOutputKeepsTheCrsTheAttributesAndEveryColumn) {
        "A-3,broken,unknown,\"POLYGON ((370000 4885000,372000\"\n");
   const std::string gpkg_path = path("plots_audit.gpkg");
   const CliRun r = audit({path("plots.csv"), "--source-crs", "EPSG:26915", "--crs", "EPSG:32615", "--id-field",
-                          "id", "--gpkg", gpkg_path, "--tolerance", "area=1ppm"});
+                          "id", "--gpkg", gpkg_path, "--tolerance", "area=1ppm", "--all-digits"});
   ASSERT_EQ(r.rows.size(), 4u) << r.err;
   EXPECT_EQ(r.status, 1);  // one invalid row
   GDALAllRegister();
@@ -326,7 +359,7 @@ TEST_F(GdalIoTest, GeoPackageOutputKeepsTheCrsTheAttributesAndEveryColumn) {
         EXPECT_FALSE(OGR_F_IsFieldSetAndNotNull(f, index));
       } else {
         ASSERT_TRUE(OGR_F_IsFieldSetAndNotNull(f, index));
-        // The CSV's numbers are the shortest text that reads back to the same double: equal, not near.
+        // With --all-digits the CSV's numbers are the shortest text that reads back to the same double: equal.
         EXPECT_EQ(OGR_F_GetFieldAsDouble(f, index), std::stod(cell));
         EXPECT_EQ(type, header[c] == "vertices" ? OFTInteger64 : OFTReal);
       }

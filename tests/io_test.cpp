@@ -762,5 +762,118 @@ TEST(ResultTable, CellsAreWhatTheWriterPrintsAndTheMessageNamesTheFailedToleranc
   EXPECT_TRUE(std::isnan(unread.cells[4].number));  // vertices unknown
 }
 
+// ---- ReaderOptions::height_from_z -------------------------------------------------------------------------------
+// RFC 7946 section 3.1.1: a position's optional third number is its altitude (height above the WGS 84 ellipsoid);
+// ISO 19125-1 / OGC 06-103r4 section 7 (WKT): "Z" positions carry X Y Z, "M" ones X Y M, "ZM" ones X Y Z M. The
+// height is the arithmetic mean of the positions' Z as given (closing positions included), worked by hand here.
+
+ReaderOptions z_heights(InputFormat format = InputFormat::automatic) {
+  ReaderOptions o;
+  o.format = format;
+  o.height_from_z = true;
+  return o;
+}
+
+TEST(HeightFromZ, GeoJsonAltitudesGiveTheMeanOfThePositions) {
+  const auto fs = read_all(R"({"type":"FeatureCollection","features":[
+    {"type":"Feature","properties":{},"geometry":{"type":"Polygon","coordinates":
+      [[[10,50,100],[10.01,50,110],[10.01,50.01,130],[10,50,100]]]}},
+    {"type":"Feature","properties":{},"geometry":{"type":"LineString","coordinates":[[1,2,300],[3,4,400,5]]}},
+    {"type":"Point","coordinates":[1,2,-42.5]}]})", z_heights());
+  ASSERT_EQ(fs.size(), 3u);
+  for (const auto& f : fs) ASSERT_TRUE(f.geometry) << f.error;
+  ASSERT_TRUE(fs[0].height_m);
+  EXPECT_DOUBLE_EQ(*fs[0].height_m, (100.0 + 110 + 130 + 100) / 4);
+  EXPECT_DOUBLE_EQ(*fs[1].height_m, 350.0);  // the fourth number (a measure) is not a height
+  EXPECT_DOUBLE_EQ(*fs[2].height_m, -42.5);
+  EXPECT_EQ(fs[0].geometry->polygons[0].outer[1].x, 10.01);  // the plane coordinates are read as always
+}
+
+TEST(HeightFromZ, PositionsWithoutAltitudeMakeThatFeatureInvalidAndTheNextIsRead) {
+  const auto fs = read_all(R"({"type":"FeatureCollection","features":[
+    {"type":"Feature","id":"mixed","properties":{},"geometry":{"type":"LineString","coordinates":[[1,2,3],[3,4],[5,6]]}},
+    {"type":"Feature","id":"flat","properties":{},"geometry":{"type":"LineString","coordinates":[[1,2],[3,4]]}},
+    {"type":"Feature","id":"ok","properties":{},"geometry":{"type":"LineString","coordinates":[[1,2,7],[3,4,9]]}}]})",
+                           z_heights());
+  ASSERT_EQ(fs.size(), 3u);
+  EXPECT_FALSE(fs[0].geometry);
+  EXPECT_THAT(fs[0].error, HasSubstr("2 of 3 positions have no Z"));
+  EXPECT_FALSE(fs[1].geometry);
+  EXPECT_THAT(fs[1].error, HasSubstr("no position has a Z"));
+  ASSERT_TRUE(fs[2].geometry) << fs[2].error;
+  EXPECT_DOUBLE_EQ(*fs[2].height_m, 8.0);
+  // Without the option the same input has no height at all.
+  EXPECT_FALSE(read_all(R"({"type":"Point","coordinates":[1,2,3]})").at(0).height_m);
+}
+
+TEST(HeightFromZ, WktDimensionsZAndZmCarryAHeightMDoesNot) {
+  const auto fs = read_all("id,wkt\n"
+                           "z,\"POLYGON Z ((10 50 20, 10.01 50 22, 10.01 50.01 27, 10 50 20))\"\n"
+                           "zm,\"LINESTRING ZM (1 2 10 999, 3 4 30 999)\"\n"
+                           "glued,\"POINTZ (1 2 5)\"\n"
+                           "bare3,\"LINESTRING (1 2 4, 3 4 8)\"\n"
+                           "m,\"LINESTRING M (1 2 10, 3 4 30)\"\n"
+                           "flat,\"LINESTRING (1 2, 3 4)\"\n",
+                           z_heights(InputFormat::csv));
+  ASSERT_EQ(fs.size(), 6u);
+  for (std::size_t k = 0; k < 4; ++k) {
+    ASSERT_TRUE(fs[k].geometry) << fs[k].id << ": " << fs[k].error;
+    ASSERT_TRUE(fs[k].height_m) << fs[k].id;
+  }
+  EXPECT_DOUBLE_EQ(*fs[0].height_m, (20.0 + 22 + 27 + 20) / 4);
+  EXPECT_DOUBLE_EQ(*fs[1].height_m, 20.0);
+  EXPECT_DOUBLE_EQ(*fs[2].height_m, 5.0);
+  EXPECT_DOUBLE_EQ(*fs[3].height_m, 6.0);  // three ordinates without a keyword: X Y Z (common practice)
+  for (std::size_t k = 4; k < 6; ++k) {
+    EXPECT_FALSE(fs[k].geometry) << fs[k].id;
+    EXPECT_THAT(fs[k].error, HasSubstr("line " + std::to_string(k + 2) + ": no position has a Z")) << fs[k].id;
+  }
+}
+
+TEST(HeightFromZ, NotTogetherWithAHeightField) {
+  ReaderOptions o = z_heights();
+  o.height_field = "elev";
+  EXPECT_EQ(read_error_code(R"({"type":"Point","coordinates":[1,2,3]})", o), ErrorCode::invalid_argument);
+  EXPECT_THAT(read_error_message(R"({"type":"Point","coordinates":[1,2,3]})", o), HasSubstr("not both"));
+}
+
+// ---- format_number(value, bound), format_bound ------------------------------------------------------------------
+// Worked by hand: the decimal place is that of a tenth of the bound's leading digit (common practice: quote a
+// figure to about a tenth of its uncertainty), never coarser than units; a bound is rounded up to 2 digits.
+
+TEST(NumberText, AFigureIsRoundedToATenthOfItsBound) {
+  EXPECT_EQ(format_number(-1.02e-12, 2.3e-9), "0");  // noise under the bound
+  EXPECT_EQ(format_number(3.5e-8, 2.3e-9), "0.000000035");
+  EXPECT_EQ(format_number(1234.56789123456, 1e-6), "1234.5678912");
+  EXPECT_EQ(format_number(1234.56789123456, 9.9e-7), "1234.56789123");
+  EXPECT_EQ(format_number(1.5, 0.04), "1.5");  // trailing zeros dropped
+  EXPECT_EQ(format_number(-2.0004, 0.04), "-2");
+  EXPECT_EQ(format_number(123456.789, 7), "123456.8");
+  EXPECT_EQ(format_number(123456.789, 700), "123457");  // never coarser than units
+  EXPECT_EQ(format_number(0.1, 1e-30), "0.1");           // more digits than a double holds: in full
+  EXPECT_EQ(format_number(0.1, std::numeric_limits<double>::quiet_NaN()), "0.1");
+  EXPECT_EQ(format_number(0.1, 0), "0.1");
+  EXPECT_EQ(format_number(std::numeric_limits<double>::quiet_NaN(), 1), "");
+}
+
+TEST(NumberText, ABoundIsRoundedUpToTwoDigits) {
+  EXPECT_EQ(format_bound(1.234e-9), "1.3e-09");
+  EXPECT_EQ(format_bound(0.0411), "0.042");
+  EXPECT_EQ(format_bound(0.042), "0.042");
+  EXPECT_EQ(format_bound(1234), "1300");
+  EXPECT_EQ(format_bound(99.5), "100");
+  EXPECT_EQ(format_bound(0), "0");
+  EXPECT_EQ(format_bound(std::numeric_limits<double>::quiet_NaN()), "");
+  // Never below the bound, over many magnitudes (the printed decimal read back).
+  std::mt19937_64 rng(1414);
+  std::uniform_real_distribution<double> exponent(-15, 12);
+  for (int k = 0; k < 2000; ++k) {
+    const double b = std::pow(10.0, exponent(rng));
+    const std::string text = format_bound(b);
+    EXPECT_GE(std::stod(text), b) << text;
+    EXPECT_LE(std::stod(text), b * 1.1 + 1e-300) << text;
+  }
+}
+
 }  // namespace
 }  // namespace gridtruth

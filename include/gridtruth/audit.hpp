@@ -149,6 +149,10 @@ struct Budget {
   /// bound σ·P + πσ² for a boundary moved by ≤ σ, common practice). NaN when the accuracy is unknown (ballpark).
   double from_datum_bound = 0;
   double from_height_bound = 0;  ///< bound on E_S − R: reference_bound + ellipsoid_source_bound
+  /// error_bound and from_datum_bound without the datum transformation's accuracy: what the computation itself
+  /// may have got wrong (finite also for a ballpark transformation). The CSV rounds those figures to it.
+  double error_computation_bound = 0;
+  double from_datum_computation_bound = 0;  ///< see error_computation_bound
 };
 
 /// Distortion statistics over the vertices and densified points of a feature (Tissot's indicatrix from central

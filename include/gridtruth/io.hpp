@@ -21,6 +21,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <iosfwd>
+#include <limits>
 #include <memory>
 #include <optional>
 #include <string>
@@ -56,6 +57,10 @@ struct ReaderOptions {
   /// GeoJSON property or CSV column holding each feature's ellipsoidal height in metres; empty: none. A feature
   /// whose height is missing, null, not a number or not finite is read with `error` set (it becomes invalid).
   std::string height_field;
+  /// Take each feature's ellipsoidal height from its own Z coordinates (GeoJSON altitude, WKT Z, a 3D layer):
+  /// the mean Z of its positions as given (ring-closing positions included), in metres. A feature with a position
+  /// lacking Z is read with `error` set. Not together with height_field (Error(invalid_argument)).
+  bool height_from_z = false;
   /// The layer to read from a GDAL data source with several (a GeoPackage, a file geodatabase); empty: the only
   /// layer (a source with several and no name given is Error(invalid_argument) listing them).
   std::string layer;
@@ -71,7 +76,7 @@ struct InputFeature {
   std::string error;                   ///< why the feature could not be read; empty when `geometry` is set
   // A geometry without any coordinate (WKT EMPTY, GeoJSON "coordinates": []) comes back as an error
   // ("empty geometry: ...") with `declared_type` set: there is nothing to measure.
-  std::optional<double> height_m;      ///< the height_field value, metres (absent without a height_field)
+  std::optional<double> height_m;  ///< the height_field value or mean Z, metres (absent without either option)
   /// The feature's own attributes as the text of a JSON object: a GeoJSON Feature's "properties", or a CSV
   /// record's other columns (as strings); empty when there are none or they could not be read.
   std::string properties_json;
@@ -175,6 +180,14 @@ Geometry parse_wkt(std::string_view text);
 /// Formats a number with the fewest digits that read back to the same double (plain decimal notation from 1e-5
 /// to 1e15, exponent notation outside); empty for NaN and infinities.
 std::string format_number(double value);
+/// Formats a figure known to within `bound` (≥ 0): rounded to the decimal place of a tenth of the bound's leading
+/// digit (bound 2.3e-9 → 10 decimals, 0.04 → 3, 7 → 1; never coarser than units), trailing zeros dropped, so a
+/// value smaller than the bound reads "0" instead of round-off noise such as -1.02e-12. A bound that is zero,
+/// NaN or infinite, or asks for more digits than a double holds, gives format_number(value).
+std::string format_number(double value, double bound);
+/// Formats a bound: rounded up (never down) to two significant digits, e.g. 1.234e-9 → "1.3e-09", 0.0411 →
+/// "0.042", 1234 → "1300"; empty for NaN and infinities.
+std::string format_bound(double bound);
 
 /// Quotes one CSV text field as RFC 4180 section 2 says: fields holding a comma, a double quote, CR or LF are
 /// enclosed in double quotes and inner quotes doubled. A text that a spreadsheet would take for a formula (its first
@@ -206,6 +219,10 @@ const std::vector<ResultColumn>& result_columns(bool combined_factor = false, bo
 struct ResultCell {
   std::string_view text;  ///< text columns
   double number = 0;      ///< count and number columns; NaN: empty
+  /// The number's bound (Budget's *_bound, error and datum parts without the datum accuracy): the CSV writes the
+  /// number as format_number(number, bound). NaN: none known, format_number(number).
+  double bound = std::numeric_limits<double>::quiet_NaN();
+  bool is_bound = false;  ///< the number is itself a bound column: written as format_bound()
 };
 
 /// The cells of one row, column by column as result_columns(combined_factor) lists them.
@@ -229,8 +246,9 @@ ResultRow unread_row(std::string_view id, std::string_view message, std::optiona
                      bool combined_factor = false, bool bounds = false);
 
 /// Writes audit results as CSV rows (RFC 4180), one per feature, with the columns of result_columns().
-/// Numbers use format_number(); a value that does not apply (a point's length, a line's area, NaN) is an empty
-/// cell. Lines end with CRLF (RFC 4180 section 2.1) unless another ending is given.
+/// Numbers use format_number(value, bound) where the figure's bound is known (ResultCell::bound; bounds
+/// themselves format_bound()), format_number(value) elsewhere, or every number in full with with_all_digits(); a
+/// value that does not apply (a point's length, a line's area, NaN) is an empty cell. Lines end with CRLF (RFC 4180 section 2.1) unless another ending is given.
 class ResultCsvWriter {
  public:
   /// Writes to `out`, which must outlive the writer, ending lines with `line_ending` (CRLF by default).
@@ -241,6 +259,8 @@ class ResultCsvWriter {
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// Adds the 14 bound columns after every other (result_columns()'s `bounds`).
   void with_bounds(bool on) noexcept { bounds_ = on; }
+  /// Writes every number with format_number(value): the shortest text that reads back to the same double.
+  void with_all_digits(bool on) noexcept { all_digits_ = on; }
   /// Adds columns after the table's (after combined_factor too): `names` in the header (quoted as csv_field()
   /// says), and in each row the texts of extra_cells(), an empty cell for each one missing. Before write_header().
   void with_extra_columns(std::vector<std::string> names) { extra_columns_ = std::move(names); }
@@ -262,6 +282,7 @@ class ResultCsvWriter {
   std::string line_ending_;
   bool combined_factor_ = false;
   bool bounds_ = false;
+  bool all_digits_ = false;
   std::vector<std::string> extra_columns_, extra_cells_;
   std::string line_;  // the row being built, kept so that its buffer is reused
 };

@@ -128,6 +128,8 @@ class ResultGeoJsonWriter {
                       GeoJsonCoordinates coordinates = GeoJsonCoordinates::wgs84);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
+  /// Numbers in full, as ResultCsvWriter::with_all_digits() (default: each figure rounded to its bound).
+  void with_all_digits(bool on) noexcept { all_digits_ = on; }
   /// One audited feature.
   void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
                      std::string_view input_properties_json = {});
@@ -147,6 +149,7 @@ class ResultGeoJsonWriter {
   std::unique_ptr<Transform> transform_;  // source CRS → WGS 84 longitude/latitude; null: coordinates as read
   std::ostream* out_;
   bool combined_factor_ = false;
+  bool all_digits_ = false;
   bool first_ = true;
   bool finished_ = false;
 };

@@ -129,11 +129,19 @@ class OgrReader final : public FormatReader {
     }
     Geometry g;
     std::string error;
-    const bool ok = parse_wkt(wkt, g, out.declared_type, error);
+    ZTally z;
+    const bool ok = parse_wkt(wkt, g, out.declared_type, error, options_.height_from_z ? &z : nullptr);
     gdal_.VSIFree(wkt);
     if (!ok) {
       out.error = where + ": " + error;
       return out;
+    }
+    if (options_.height_from_z) {
+      out.height_m = height_from_tally(z, error);
+      if (!out.height_m) {
+        out.error = where + ": " + error;
+        return out;
+      }
     }
     out.geometry = std::move(g);
     return out;

@@ -17,11 +17,12 @@ CLI = os.environ.get("GRIDTRUTH_CLI")
 
 
 def run_cli(args, tmp_path):
-    """Runs `gridtruth audit` and returns (rows of the CSV as dicts of text, summary JSON)."""
+    """Runs `gridtruth audit` and returns (rows of the CSV as dicts of text, summary JSON). The CSV has every
+    number in full (--all-digits), so cells can be compared with the module's doubles to the last bit."""
     if not CLI:
         pytest.skip("GRIDTRUTH_CLI is not set (run through ctest)")
     out, summary = tmp_path / "cli.csv", tmp_path / "cli.json"
-    done = subprocess.run([CLI, "audit", *args, "--out", str(out), "--summary", str(summary)],
+    done = subprocess.run([CLI, "audit", *args, "--all-digits", "--out", str(out), "--summary", str(summary)],
                           capture_output=True, text=True)
     assert done.returncode in (0, 1), done.stderr
     with open(out, newline="") as f:

@@ -61,6 +61,9 @@ if(STEP STREQUAL "install")
     endif()
   endif()
 elseif(STEP STREQUAL "find_package")
+  # A fresh build each time: Ninja does not see a reinstalled library as changed, and a stale consumer built
+  # against an older ABI would crash or pass for the wrong reason.
+  file(REMOVE_RECURSE ${WORK_DIR}/find_package)
   build_and_run(${SOURCE_DIR}/tests/consumer/find_package ${WORK_DIR}/find_package
                 -DCMAKE_PREFIX_PATH=${PREFIX} -DCMAKE_FIND_USE_PACKAGE_REGISTRY=OFF)
 elseif(STEP STREQUAL "add_subdirectory")
