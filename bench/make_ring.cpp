@@ -2,7 +2,7 @@
 // benchmark (peak RSS per input byte, bench/run.sh).   make_ring VERTICES OUT [RADIUS_M]
 // The ring is a smooth seven-armed star around 93°W 45°N (UTM zone 15N), of radius RADIUS_M (default 40 km) ± 20 %
 // (perimeter 348 km at 40 km), so its edges are short and it never crosses itself: 0.35 m on average for 10⁶
-// vertices and 3.5 m for 10⁵ at 40 km (measured in closed form, lib/short_geodesics.hpp), 4.4 cm for 10⁶ at 5 km
+// vertices and 3.5 m for 10⁵ at 40 km (measured in closed form, lib/audit/short_geodesics.hpp), 4.4 cm for 10⁶ at 5 km
 // (below the closed form's 0.1 m: solved by GeographicLib edge by edge).
 #include <cmath>
 #include <cstdio>

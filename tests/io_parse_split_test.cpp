@@ -10,7 +10,7 @@
 #include <thread>
 #include <vector>
 
-#include "../lib/io_detail.hpp"  // parse_json_feature_reference: the nlohmann-only reading, for comparison
+#include "../lib/io/io_detail.hpp"  // parse_json_feature_reference: the nlohmann-only reading, for comparison
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "test_files.hpp"

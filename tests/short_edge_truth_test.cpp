@@ -1,4 +1,4 @@
-// The closed-form short-edge method (AuditOptions::closed_form_short_edges, lib/short_geodesics.hpp) against
+// The closed-form short-edge method (AuditOptions::closed_form_short_edges, lib/audit/short_geodesics.hpp) against
 // GeographicLib 2.1 (Karney, "Algorithms for geodesics", J. Geodesy 87, 2013; PolygonArea), over randomized
 // polygons at every edge length and latitude band where it applies, and the screened distortion statistics
 // against the factors at every vertex (Auditor::factors). Seeds are printed (GRIDTRUTH_TEST_SEED replays one).

@@ -9,7 +9,7 @@
 
 #include <nlohmann/json.hpp>
 
-#include "gdal/gdal_api.hpp"
+#include "core/gdal/gdal_api.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
 #include "gridtruth/report.hpp"

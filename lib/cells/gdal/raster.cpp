@@ -3,7 +3,7 @@
 #include <cmath>
 #include <vector>
 
-#include "gdal/gdal_api.hpp"
+#include "core/gdal/gdal_api.hpp"
 #include "gridtruth/cells.hpp"
 #include "gridtruth/error.hpp"
 

@@ -1,4 +1,4 @@
-// gridtruth — internal: the topology checks of validate() (lib/validity.cpp).
+// gridtruth — internal: the topology checks of validate() (lib/core/validity.cpp).
 #pragma once
 
 #include <vector>

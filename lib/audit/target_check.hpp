@@ -1,4 +1,4 @@
-// gridtruth — internal: is a target projection usable at all? (lib/target_check.cpp, used by Auditor)
+// gridtruth — internal: is a target projection usable at all? (lib/audit/target_check.cpp, used by Auditor)
 #pragma once
 
 #include <functional>

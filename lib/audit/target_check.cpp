@@ -14,7 +14,7 @@
 #include <string>
 
 #include "gridtruth/error.hpp"
-#include "proj_handles.hpp"
+#include "core/proj_handles.hpp"
 
 namespace gridtruth::detail {
 

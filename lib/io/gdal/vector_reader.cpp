@@ -13,9 +13,9 @@
 
 #include <nlohmann/json.hpp>
 
-#include "gdal/gdal_api.hpp"
+#include "core/gdal/gdal_api.hpp"
 #include "gridtruth/error.hpp"
-#include "io_detail.hpp"
+#include "io/io_detail.hpp"
 
 namespace gridtruth::detail {
 

@@ -10,8 +10,8 @@
 #include <string>
 
 #include "gridtruth/error.hpp"
-#include "compensated_sum.hpp"
-#include "proj_handles.hpp"
+#include "core/compensated_sum.hpp"
+#include "core/proj_handles.hpp"
 
 namespace gridtruth {
 

@@ -1,5 +1,5 @@
 // Internal: the candidate datum operations between an auditor's source CRS and its target, and PROJ's own
-// per-point choice among them (used by lib/audit.cpp).
+// per-point choice among them (used by lib/audit/audit.cpp).
 #pragma once
 
 #include <map>
@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "gridtruth/audit.hpp"
-#include "proj_handles.hpp"
+#include "core/proj_handles.hpp"
 
 namespace gridtruth::detail {
 

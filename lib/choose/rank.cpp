@@ -10,7 +10,7 @@
 
 #include "gridtruth/crs.hpp"
 #include "gridtruth/error.hpp"
-#include "proj_handles.hpp"
+#include "core/proj_handles.hpp"
 #include "rank_detail.hpp"
 
 namespace gridtruth {

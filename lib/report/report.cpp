@@ -19,7 +19,7 @@
 #include "gridtruth/crs.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
-#include "proj_handles.hpp"
+#include "core/proj_handles.hpp"
 
 namespace gridtruth {
 

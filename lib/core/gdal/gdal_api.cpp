@@ -1,5 +1,5 @@
 // gridtruth — GDAL's C API, loaded on first use (see gdal_api.hpp).
-#include "gdal/gdal_api.hpp"
+#include "gdal_api.hpp"
 
 #include <dlfcn.h>
 

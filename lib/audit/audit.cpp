@@ -16,10 +16,10 @@
 #include <utility>
 
 #include "gridtruth/error.hpp"
-#include "compensated_sum.hpp"
+#include "core/compensated_sum.hpp"
 #include "datum_ops.hpp"
 #include "edge_quadrature.hpp"
-#include "proj_handles.hpp"
+#include "core/proj_handles.hpp"
 #include "short_geodesics.hpp"
 #include "target_check.hpp"
 
