@@ -1,10 +1,10 @@
-// gridtruth — the command-line tool. Thin: parse options, call the library, write rows and the summary.
+// gridtruth audit — every feature of a file measured on the grid of a projected CRS. Thin: parse options, call
+// the library, write rows and the summary.
 //
 //   gridtruth audit INPUT --crs TARGET [options]
 //
 // Exit status: 0 every feature ok and within tolerance; 1 some feature failed a tolerance or is invalid or
 // unmeasurable; 2 nothing could be audited (bad option, unreadable input, unknown CRS), with a one-line reason.
-#include <fcntl.h>
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
@@ -35,17 +35,12 @@
 #include "gridtruth/runner.hpp"
 #include "gridtruth/tolerance.hpp"
 
-#ifndef GRIDTRUTH_VERSION
-#define GRIDTRUTH_VERSION "unknown"
-#endif
-
 namespace {
 
 using namespace gridtruth;
-
-constexpr int exit_ok = 0;
-constexpr int exit_findings = 1;
-constexpr int exit_unusable = 2;
+using cli::exit_findings;
+using cli::exit_ok;
+using cli::fail_run;
 
 struct AuditArgs {
   std::string input;
@@ -154,12 +149,6 @@ class ExtraColumns {
   std::vector<std::string> names_, keys_;
   double length_m_ = 0, area_m2_ = 0;  // 0: no such columns
 };
-
-/// One line on standard error: the reason the run could not go on.
-int fail_run(const std::string& reason) {
-  std::cerr << "gridtruth: " << reason << "\n";
-  return exit_unusable;
-}
 
 /// "Progress" on standard error, only for a terminal and only once the run has taken more than a second.
 class Progress {
@@ -274,7 +263,7 @@ int run_audit(const AuditArgs& args) {
   }
 
   // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
-  // each is written under a temporary name and renamed into place once complete (examples/output_file.hpp).
+  // each is written under a temporary name and renamed into place once complete (output_file.hpp).
   std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file, gpkg_file;
   std::optional<ResultCsvWriter> writer;
   std::optional<ResultGeoJsonWriter> geojson;
@@ -484,22 +473,11 @@ const char* audit_footer =
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  // A closed standard descriptor would be taken by the next file opened (PROJ's database, an output), which would
-  // then be read as the input or written with the rows: hold each on /dev/null, and remember a closed input.
-  for (const int fd : {STDIN_FILENO, STDOUT_FILENO, STDERR_FILENO}) {
-    if (fcntl(fd, F_GETFD) != -1 || errno != EBADF) continue;
-    if (open("/dev/null", fd == STDIN_FILENO ? O_RDONLY : O_WRONLY) == fd && fd == STDIN_FILENO)
-      cli::standard_input_closed() = true;
-  }
-  std::ios::sync_with_stdio(false);
-  CLI::App app{"gridtruth: how wrong do lengths and areas become on the grid of a projected CRS?"};
-  app.name("gridtruth");
-  app.set_version_flag("--version", std::string("gridtruth ") + GRIDTRUTH_VERSION);
-  app.require_subcommand(1);
-  app.footer(std::string("\nRun 'gridtruth COMMAND --help' for a command's options.\n\n") + cli::caution_text + "\n");
+namespace gridtruth::cli {
 
-  AuditArgs args;
+Command set_up_audit(CLI::App& app) {
+  auto shared = std::make_shared<AuditArgs>();
+  AuditArgs& args = *shared;
   CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
   audit->add_option("INPUT", args.input, "GeoJSON, newline-delimited GeoJSON or CSV with WKT; '-' for standard input")
       ->required();
@@ -567,48 +545,15 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   cli::add_trusted_crs_flag(audit);
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
-
-  // The other commands register themselves (examples/commands.hpp).
-  std::vector<cli::Command> commands;
-  std::string command_names = "audit";
-  bool known = argc > 1 && std::string(argv[1]) == "audit";
-  for (const cli::CommandSpec& spec : cli::command_registry()) {
-    commands.push_back(spec.setup(app));
-    command_names += ", " + spec.name;
-    known = known || (argc > 1 && spec.name == argv[1]);
-  }
-  if (argc > 1 && argv[1][0] != '-' && !known)
-    return fail_run("unknown command \"" + std::string(argv[1]) + "\" (the commands are " + command_names +
-                    "; see 'gridtruth --help')");
-  try {
-    app.parse(argc, argv);
-  } catch (const CLI::ParseError& e) {
-    if (e.get_exit_code() == 0) {  // --help, --version
-      // The audit command's own help opens with the long description (the command list keeps the short one).
-      if (app.got_subcommand(audit)) audit->description(audit_description);
-      return app.exit(e);
-    }
-    std::string what = e.what();
-    for (auto& c : what)
-      if (c == '\n') c = ' ';
-    return fail_run(what + " (see 'gridtruth " + (app.got_subcommand(audit) ? "audit " : "") + "--help')");
-  }
-  // CRS definitions come from the command line and input files: PROJ opens only its own data files unless told.
-  set_crs_file_access(cli::trusted_crs_given() ? CrsFileAccess::any : CrsFileAccess::data_directories);
-  for (const cli::Command& command : commands) {
-    if (!app.got_subcommand(command.app)) continue;
+  // An exception escaping the run is a bug: say so (the other commands' reach main() as their reason).
+  auto run = [shared] {
     try {
-      return command.run();
-    } catch (const std::exception& e) {
-      return fail_run(e.what());
-    }
-  }
-  if (app.got_subcommand(audit)) {
-    try {
-      return run_audit(args);
+      return run_audit(*shared);
     } catch (const std::exception& e) {
       return fail_run(std::string("internal error: ") + e.what());
     }
-  }
-  return fail_run("no command given (see 'gridtruth --help')");
+  };
+  return Command{audit, run, audit_description, true};
 }
+
+}  // namespace gridtruth::cli

@@ -273,7 +273,7 @@ Command set_up(CLI::App& tool) {
                   "unreadable input.\n\n") +
               caution_text + "\n");
   add_trusted_crs_flag(app);
-  return Command{app, [args] { return run_cells(*args); }};
+  return Command{app, [args] { return run_cells(*args); }, {}, false};
 }
 
 const CommandRegistrar registrar{"cells", set_up};

@@ -145,7 +145,7 @@ Command set_up(CLI::App& tool) {
                   "Exit status: 0 ranked, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
   add_trusted_crs_flag(app);
-  return Command{app, [args] { return run_rank(*args); }};
+  return Command{app, [args] { return run_rank(*args); }, {}, false};
 }
 
 const CommandRegistrar registrar{"rank", set_up};

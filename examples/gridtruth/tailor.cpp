@@ -120,7 +120,7 @@ Command set_up(CLI::App& tool) {
                           "Exit status: 0 tailored, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
   add_trusted_crs_flag(app);
-  return Command{app, [args] { return run_tailor(*args); }};
+  return Command{app, [args] { return run_tailor(*args); }, {}, false};
 }
 
 const CommandRegistrar registrar{"tailor", set_up};
