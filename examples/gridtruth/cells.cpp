@@ -10,7 +10,6 @@
 #include <tuple>
 #include <vector>
 
-#include "audit_summary.hpp"
 #include "commands.hpp"
 #include "output_file.hpp"
 #include "gridtruth/cells.hpp"

@@ -25,6 +25,10 @@ struct Command {
   bool own_help_hint = false;
 };
 
+/// The caution every command's --help and the audit's summaries print.
+inline constexpr const char* caution_text =
+    "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
+
 /// The exit statuses every command shares.
 constexpr int exit_ok = 0;        ///< done; no findings
 constexpr int exit_findings = 1;  ///< done, with findings (a failed tolerance, an invalid or unmeasurable feature)

@@ -15,7 +15,6 @@
 #include <string>
 #include <vector>
 
-#include "audit_summary.hpp"
 #include "commands.hpp"
 #include "gridtruth/crs.hpp"
 

@@ -5,7 +5,6 @@
 #include <memory>
 #include <string>
 
-#include "audit_summary.hpp"
 #include "commands.hpp"
 #include "output_file.hpp"
 #include "gridtruth/error.hpp"
