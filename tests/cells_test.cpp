@@ -16,6 +16,7 @@
 #include <random>
 #include <sstream>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "gridtruth/audit.hpp"
@@ -413,6 +414,64 @@ TEST_F(CellsCommand, BadOptionsExitTwoWithOneLine) {
     EXPECT_FALSE(r.err.empty()) << args;
     EXPECT_LE(std::count(r.err.begin(), r.err.end(), '\n'), 3) << args << "\n" << r.err;
   }
+}
+
+// The library's class files (add_raw_class_raster, add_class_counts_csv): the raster of
+// ClassAreas.GeographicRasterAgainstHandSums (checked there against hand sums, Snyder 1987 eq. 3-12) as raw uint8
+// codes, as raw little-endian uint16 codes (one code above 255, so that the byte order shows) and as counts per
+// (row, class) gives what add_strip() gives; a file of the wrong size and a malformed line are refused by name.
+TEST(ClassAreas, RawAndCountsFilesGiveTheAreasOfTheirCodes) {
+  const GridSpec spec = grid("EPSG:4326", 10, 2, 1, -1, 4, 3);
+  const CellGrid g(spec);
+  const std::vector<std::uint16_t> codes8 = {1, 1, 2, 7, 2, 2, 2, 7, 1, 9, 9, 9};
+  std::vector<std::uint16_t> codes16 = codes8;
+  std::replace(codes16.begin(), codes16.end(), std::uint16_t{7}, std::uint16_t{0x0107});
+  const std::string raw8 = temp_path("lib8.raw"), raw16 = temp_path("lib16.raw"), counts = temp_path("lib.csv"),
+                    bad = temp_path("lib_bad.csv");
+  {
+    std::ofstream f8(raw8, std::ios::binary), f16(raw16, std::ios::binary), c(counts, std::ios::binary),
+        b(bad, std::ios::binary);
+    for (const std::uint16_t code : codes8) f8.put(static_cast<char>(code));
+    for (const std::uint16_t code : codes16) f16.put(static_cast<char>(code & 0xFF)).put(static_cast<char>(code >> 8));
+    c << "row,class,count\r\n0,1,2\r\n0,2,1\r\n0,7,1\r\n\r\n1,2,3\r\n1,7,1\r\n2,1,1\r\n2,9,3\r\n";
+    b << "row,class,count\n0,1,2\n0,2\n";
+  }
+  auto same = [](const std::vector<ClassArea>& got, const std::vector<ClassArea>& want, const std::string& what) {
+    ASSERT_EQ(got.size(), want.size()) << what;
+    for (std::size_t k = 0; k < got.size(); ++k) {
+      EXPECT_EQ(got[k].code, want[k].code) << what;
+      EXPECT_EQ(got[k].cells, want[k].cells) << what;
+      EXPECT_NEAR(got[k].true_area_m2, want[k].true_area_m2, 1e-3) << what;
+    }
+  };
+  for (const auto& [path, type, codes] : {std::make_tuple(raw8, RawCodeType::uint8, codes8),
+                                          std::make_tuple(raw16, RawCodeType::uint16, codes16)}) {
+    ClassAreaAccumulator strips(g, 9u), file(g, 9u);
+    strips.add_strip(0, codes);
+    add_raw_class_raster(path, spec, type, file);
+    same(file.result(), strips.result(), path);
+  }
+  ClassAreaAccumulator strips(g, 9u), file(g, 9u);
+  strips.add_strip(0, codes8);
+  add_class_counts_csv(counts, file);
+  same(file.result(), strips.result(), counts);
+
+  try {
+    add_raw_class_raster(raw8, grid("EPSG:4326", 10, 2, 1, -1, 4, 4), RawCodeType::uint8, file);
+    ADD_FAILURE() << "a raw file of 12 bytes read as 16 cells";
+  } catch (const Error& e) {
+    EXPECT_EQ(e.code(), ErrorCode::parse);
+    EXPECT_THAT(e.what(), ::testing::HasSubstr("holds 12 bytes"));
+  }
+  try {
+    add_class_counts_csv(bad, file);
+    ADD_FAILURE() << "a counts line without its count was accepted";
+  } catch (const Error& e) {
+    EXPECT_EQ(e.code(), ErrorCode::parse);
+    EXPECT_THAT(e.what(), ::testing::HasSubstr(bad + " line 3"));
+  }
+  EXPECT_THROW(add_class_counts_csv(temp_path("missing.csv"), file), Error);
+  for (const std::string& path : {raw8, raw16, counts, bad}) std::remove(path.c_str());
 }
 
 // Class areas through the command: the raster of ClassAreas.GeographicRasterAgainstHandSums as raw uint8 codes and as

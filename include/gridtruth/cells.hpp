@@ -162,6 +162,24 @@ class ClassAreaAccumulator {
   std::vector<Sum> sums_;  // indexed by code
 };
 
+/// The cell type of a raw class raster (add_raw_class_raster()).
+enum class RawCodeType { uint8, uint16 };
+
+/// Streams a raw class raster into `acc`, in strips of whole rows: the codes of the grid's cols × rows cells,
+/// row-major, one byte (uint8) or two little-endian bytes (uint16) per cell, and nothing else (no header).
+/// Throws Error(io) when the file cannot be read, Error(parse) when its size is not cols × rows × the bytes per
+/// cell (the message gives both). `grid` must be the accumulator's.
+void add_raw_class_raster(const std::string& path, const GridSpec& grid, RawCodeType type,
+                          ClassAreaAccumulator& acc);
+
+/// Adds a CSV of class counts to `acc`: the header line "row,class,count", then one line per (row, class) giving
+/// how many cells of the row carry the class (whole numbers; CRLF line ends and empty lines are accepted). Exact
+/// only on a geographic grid (ClassAreaAccumulator::add_row_count()). Throws Error(io) when the file cannot be
+/// read, Error(parse) naming the line for a malformed one, and, with the line named, what add_row_count() throws:
+/// Error(unsupported_crs) for a projected grid, Error(invalid_argument) for a code above 65535 or a count above
+/// the row's cells.
+void add_class_counts_csv(const std::string& path, ClassAreaAccumulator& acc);
+
 /// What a class raster file says about itself: its grid (CRS, geotransform, size) and band 1's nodata code, if any.
 struct ClassRasterHeader {
   GridSpec grid;                        ///< the file's CRS ("EPSG:n" when it names one, else WKT2), geotransform, size

@@ -5,9 +5,15 @@
 #include <proj.h>
 
 #include <algorithm>
+#include <array>
+#include <cerrno>
 #include <cmath>
+#include <cstdlib>
+#include <fstream>
 #include <limits>
+#include <sstream>
 #include <string>
+#include <vector>
 
 #include "gridtruth/error.hpp"
 #include "core/compensated_sum.hpp"
@@ -459,6 +465,81 @@ std::vector<ClassArea> ClassAreaAccumulator::result() const {
     out.push_back(a);
   }
   return out;
+}
+
+void add_raw_class_raster(const std::string& path, const GridSpec& g, RawCodeType type, ClassAreaAccumulator& acc) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw Error(ErrorCode::io, "cannot read " + path);
+  const bool two_bytes = type == RawCodeType::uint16;
+  const std::size_t bytes_per_cell = two_bytes ? 2 : 1;
+  in.seekg(0, std::ios::end);
+  const auto file_bytes = static_cast<unsigned long long>(in.tellg());
+  const unsigned long long expected = static_cast<unsigned long long>(g.cols) * g.rows * bytes_per_cell;
+  if (file_bytes != expected)
+    throw Error(ErrorCode::parse, path + " holds " + std::to_string(file_bytes) + " bytes; a " +
+                                      std::to_string(g.cols) + " x " + std::to_string(g.rows) + " raster of " +
+                                      (two_bytes ? "uint16" : "uint8") + " codes needs " + std::to_string(expected));
+  in.seekg(0);
+  // Strips of about 4 MiB of codes: memory stays bounded whatever the raster's size.
+  const std::size_t strip_rows = std::max<std::size_t>(1, (std::size_t{1} << 22) / g.cols);
+  std::vector<unsigned char> bytes;
+  std::vector<std::uint16_t> codes;
+  for (std::size_t r = 0; r < g.rows; r += strip_rows) {
+    const std::size_t n = std::min(strip_rows, g.rows - r);
+    bytes.resize(n * g.cols * bytes_per_cell);
+    if (!in.read(reinterpret_cast<char*>(bytes.data()), static_cast<std::streamsize>(bytes.size())))
+      throw Error(ErrorCode::io, "cannot read " + path);
+    codes.resize(n * g.cols);
+    for (std::size_t k = 0; k < codes.size(); ++k)
+      codes[k] = two_bytes ? static_cast<std::uint16_t>(bytes[2 * k] | (bytes[2 * k + 1] << 8)) : bytes[k];
+    acc.add_strip(r, codes);
+  }
+}
+
+namespace {
+
+/// One line "row,class,count" of a counts CSV as three whole numbers; Error(parse) naming `where` otherwise.
+std::array<unsigned long long, 3> count_fields(const std::string& line, const std::string& where) {
+  std::istringstream fields(line);
+  std::string f[3];
+  if (!std::getline(fields, f[0], ',') || !std::getline(fields, f[1], ',') || !std::getline(fields, f[2]) ||
+      f[2].find(',') != std::string::npos)
+    throw Error(ErrorCode::parse, where + ": needs row,class,count");
+  std::array<unsigned long long, 3> v{};
+  for (int k = 0; k < 3; ++k) {
+    char* end = nullptr;
+    errno = 0;
+    v[k] = std::strtoull(f[k].c_str(), &end, 10);
+    if (f[k].empty() || f[k][0] == '-' || end != f[k].c_str() + f[k].size() || errno != 0)
+      throw Error(ErrorCode::parse, where + ": '" + f[k] + "' is not a whole number");
+  }
+  return v;
+}
+
+}  // namespace
+
+void add_class_counts_csv(const std::string& path, ClassAreaAccumulator& acc) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw Error(ErrorCode::io, "cannot read " + path);
+  std::string line;
+  std::getline(in, line);
+  if (!line.empty() && line.back() == '\r') line.pop_back();
+  if (line != "row,class,count") throw Error(ErrorCode::parse, path + ": the first line must be 'row,class,count'");
+  std::size_t line_no = 1;
+  while (std::getline(in, line)) {
+    ++line_no;
+    if (!line.empty() && line.back() == '\r') line.pop_back();
+    if (line.empty()) continue;
+    const std::string where = path + " line " + std::to_string(line_no);
+    const auto v = count_fields(line, where);
+    try {
+      // A code beyond 2^20 is held there, so that it cannot wrap into a valid one: add_row_count() refuses it.
+      acc.add_row_count(static_cast<std::size_t>(v[0]), static_cast<std::uint32_t>(std::min(v[1], 1ull << 20)),
+                        v[2]);
+    } catch (const Error& e) {
+      throw Error(e.code(), where + ": " + e.what());
+    }
+  }
 }
 
 #ifndef GRIDTRUTH_WITH_GDAL

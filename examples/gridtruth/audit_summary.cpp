@@ -1,6 +1,8 @@
 // gridtruth command — the run summary of `gridtruth audit`.
 #include "audit_summary.hpp"
 
+#include "commands.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -9,9 +11,6 @@
 #include "gridtruth/error.hpp"
 
 namespace gridtruth::cli {
-
-const char* const caution_text =
-    "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
 
 const std::vector<std::string>& summary_unit_names() {
   static const std::vector<std::string> names = {"metric", "hectare", "acre", "us-survey-acre"};

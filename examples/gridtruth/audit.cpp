@@ -1,10 +1,10 @@
-// gridtruth — the command-line tool. Thin: parse options, call the library, write rows and the summary.
+// gridtruth audit — every feature of a file measured on the grid of a projected CRS. Thin: parse options, call
+// the library, write rows and the summary.
 //
 //   gridtruth audit INPUT --crs TARGET [options]
 //
 // Exit status: 0 every feature ok and within tolerance; 1 some feature failed a tolerance or is invalid or
 // unmeasurable; 2 nothing could be audited (bad option, unreadable input, unknown CRS), with a one-line reason.
-#include <fcntl.h>
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
@@ -35,17 +35,12 @@
 #include "gridtruth/runner.hpp"
 #include "gridtruth/tolerance.hpp"
 
-#ifndef GRIDTRUTH_VERSION
-#define GRIDTRUTH_VERSION "unknown"
-#endif
-
 namespace {
 
 using namespace gridtruth;
-
-constexpr int exit_ok = 0;
-constexpr int exit_findings = 1;
-constexpr int exit_unusable = 2;
+using cli::exit_findings;
+using cli::exit_ok;
+using cli::fail_run;
 
 struct AuditArgs {
   std::string input;
@@ -162,12 +157,6 @@ class ExtraColumns {
   bool all_digits_ = false;
 };
 
-/// One line on standard error: the reason the run could not go on.
-int fail_run(const std::string& reason) {
-  std::cerr << "gridtruth: " << reason << "\n";
-  return exit_unusable;
-}
-
 /// "Progress" on standard error, only for a terminal and only once the run has taken more than a second.
 class Progress {
  public:
@@ -194,214 +183,269 @@ class Progress {
   std::chrono::steady_clock::time_point start_, last_{};
 };
 
-int run_audit(const AuditArgs& args) {
-  // Options first: nothing is read before they all make sense.
-  if (!std::isfinite(args.height_m)) return fail_run("--height must be a finite number of metres");
-  if (!(args.densify_tolerance_m > 0) || !std::isfinite(args.densify_tolerance_m))
-    return fail_run("--densify-tolerance must be a positive number of metres");
-  if (args.wkt_field.empty()) return fail_run("--wkt-field must name a column");
-  auto ends_with = [](const std::string& s, const std::string& tail) {
-    if (s.size() < tail.size()) return false;
-    for (std::size_t k = 0; k < tail.size(); ++k)
-      if (std::tolower(static_cast<unsigned char>(s[s.size() - tail.size() + k])) != tail[k]) return false;
-    return true;
-  };
-  const bool report_html = ends_with(args.report, ".html") || ends_with(args.report, ".htm");
-  if (!args.report.empty() && !report_html && !ends_with(args.report, ".svg"))
-    return fail_run("--report must name a .svg or .html file (got " + args.report + ")");
-
+/// What the options ask for, checked before anything is read.
+struct AuditPlan {
   AuditOptions options;
+  ReaderOptions reader_options;
+  cli::SummaryUnits units;
+  bool report_html = false;   // --report names an .html (or .htm) file, else an .svg one
+  bool with_heights = false;  // --height or --height-field: the rows carry combined_factor
+};
+
+/// Whether `s` ends with `tail` (lower case), ignoring the case of `s`.
+bool ends_with_lower(const std::string& s, const std::string& tail) {
+  if (s.size() < tail.size()) return false;
+  for (std::size_t k = 0; k < tail.size(); ++k)
+    if (std::tolower(static_cast<unsigned char>(s[s.size() - tail.size() + k])) != tail[k]) return false;
+  return true;
+}
+
+/// --area-of-use-margin: degrees >= 0, or "off" (infinity); nullopt for anything else.
+std::optional<double> area_of_use_margin_deg(const std::string& text) {
+  if (text == "off") return std::numeric_limits<double>::infinity();
+  char* end = nullptr;
+  const double margin_deg = std::strtod(text.c_str(), &end);
+  if (text.empty() || *end != '\0' || !(margin_deg >= 0) || !std::isfinite(margin_deg)) return std::nullopt;
+  return margin_deg;
+}
+
+/// Fills `plan` from the options: "" when they all make sense, else the reason (nothing is read before).
+std::string plan_audit(const AuditArgs& args, AuditPlan& plan) {
+  if (!std::isfinite(args.height_m)) return "--height must be a finite number of metres";
+  if (!(args.densify_tolerance_m > 0) || !std::isfinite(args.densify_tolerance_m))
+    return "--densify-tolerance must be a positive number of metres";
+  if (args.wkt_field.empty()) return "--wkt-field must name a column";
+  plan.report_html = ends_with_lower(args.report, ".html") || ends_with_lower(args.report, ".htm");
+  if (!args.report.empty() && !plan.report_html && !ends_with_lower(args.report, ".svg"))
+    return "--report must name a .svg or .html file (got " + args.report + ")";
+
+  AuditOptions& options = plan.options;
   options.source_crs = args.source_crs;
   options.target_crs = args.target_crs;
   options.height_m = args.height_m;
   options.densify_tolerance_m = args.densify_tolerance_m;
   options.repair = args.repair;
   options.datum_operation = args.datum_op;
-  if (args.area_of_use_margin == "off") {
-    options.area_of_use_margin_deg = std::numeric_limits<double>::infinity();
-  } else {
-    char* end = nullptr;
-    options.area_of_use_margin_deg = std::strtod(args.area_of_use_margin.c_str(), &end);
-    if (args.area_of_use_margin.empty() || *end != '\0' || !(options.area_of_use_margin_deg >= 0) ||
-        !std::isfinite(options.area_of_use_margin_deg))
-      return fail_run("--area-of-use-margin must be a number of degrees >= 0 or \"off\" (got \"" +
-                      args.area_of_use_margin + "\")");
-  }
-  const bool with_heights = args.height_m != 0 || !args.height_field.empty() || args.height_from_z;
-  cli::SummaryUnits units;
-  ReaderOptions reader_options;
+  const std::optional<double> margin_deg = area_of_use_margin_deg(args.area_of_use_margin);
+  if (!margin_deg)
+    return "--area-of-use-margin must be a number of degrees >= 0 or \"off\" (got \"" + args.area_of_use_margin +
+           "\")";
+  options.area_of_use_margin_deg = *margin_deg;
+  plan.with_heights = args.height_m != 0 || !args.height_field.empty() || args.height_from_z;
   try {
     options.tolerances = Tolerance::parse_list(args.tolerance);
     if (!args.edges.empty()) options.edges = EdgeSpec::parse(args.edges);
-    units = cli::summary_units(args.units);
-    reader_options.format = parse_input_format(args.format);
+    plan.units = cli::summary_units(args.units);
+    plan.reader_options.format = parse_input_format(args.format);
   } catch (const Error& e) {
-    return fail_run(e.what());
+    return e.what();
   }
-  reader_options.id_field = args.id_field;
-  reader_options.wkt_field = args.wkt_field;
-  reader_options.height_field = args.height_field;
-  reader_options.height_from_z = args.height_from_z;
-  reader_options.layer = args.layer;
+  plan.reader_options.id_field = args.id_field;
+  plan.reader_options.wkt_field = args.wkt_field;
+  plan.reader_options.height_field = args.height_field;
+  plan.reader_options.height_from_z = args.height_from_z;
+  plan.reader_options.layer = args.layer;
 
   std::vector<std::string> outputs = {args.out.empty() ? std::string("-") : args.out};
   for (const std::string* path : {&args.summary, &args.report, &args.geojson, &args.gpkg})
     if (!path->empty()) outputs.push_back(*path);
-  if (const std::string problem = cli::same_file_problem({args.input}, outputs); !problem.empty())
-    return fail_run(problem);
+  return cli::same_file_problem({args.input}, outputs);
+}
 
-  if (args.input == "-" && cli::standard_input_closed()) return fail_run("cannot read standard input: it is closed");
-  std::optional<FeatureReader> reader;
-  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
+/// Opens the input and settles the source CRS: "" when both went well, else the reason.
+std::string open_input(const AuditArgs& args, const std::string& input_name, AuditPlan& plan,
+                       std::optional<FeatureReader>& reader) {
+  if (args.input == "-" && cli::standard_input_closed()) return "cannot read standard input: it is closed";
   try {
-    reader.emplace(args.input, reader_options);
+    reader.emplace(args.input, plan.reader_options);
   } catch (const Error& e) {
-    return fail_run(e.what());
+    return e.what();
   }
   try {
     // The source CRS: the one the input names for itself (a .prj, a layer's SRS, a GeoJSON "crs" member) unless
     // --source-crs overrides it; then a disagreement is worth a warning, since one of the two is wrong.
     const std::string declared = reader->declared_crs();
     if (args.source_crs.empty()) {
-      options.source_crs = declared.empty() ? std::string("EPSG:4326") : declared;
+      plan.options.source_crs = declared.empty() ? std::string("EPSG:4326") : declared;
     } else if (!declared.empty() && !same_crs(args.source_crs, declared)) {
       std::cerr << "gridtruth: warning: --source-crs " << args.source_crs << " overrides the CRS " << input_name
                 << " names for itself (" << describe_crs(declared).name << ")\n";
     }
   } catch (const Error& e) {
-    return fail_run(input_name + ": " + e.what());
+    return input_name + ": " + e.what();
+  }
+  return "";
+}
+
+/// The GeoPackage (GDAL) and the GeoJSON transformation (PROJ): their errors are an output's, not the input's.
+template <typename Write>
+void as_output_error(Write write) {
+  try {
+    write();
+  } catch (const Error& e) {
+    throw cli::OutputError(e.what());
+  }
+}
+
+/// The audit's outputs: the CSV rows, and the summary, picture, GeoJSON and GeoPackage the options ask for. The
+/// files are opened when the first feature has been read, so that an unreadable input leaves nothing behind; each
+/// is written under a temporary name and renamed into place once all are complete (output_file.hpp). Write
+/// errors are cli::OutputError.
+class AuditOutputs {
+ public:
+  AuditOutputs(const AuditArgs& args, const AuditPlan& plan, const Auditor& auditor, const std::string& input_name)
+      : args_(args), plan_(plan) {
+    if (args.report.empty()) return;
+    ReportOptions report_options;
+    report_options.input_name = input_name;
+    report_options.length_unit = plan.units.length_unit;
+    report_options.area_unit = plan.units.area_unit;
+    report_options.length_unit_m = plan.units.length_m;
+    report_options.area_unit_m2 = plan.units.area_m2;
+    report_options.caution = cli::caution_text;
+    report_.emplace(auditor, report_options);
   }
 
+  bool opened() const { return writer_.has_value(); }
+  const cli::AuditSummary& summary() const { return summary_; }
+
+  /// Opens every file and writes the CSV header; `first`: the first feature read (--keep-fields all), or null.
+  void open(const InputFeature* first) {
+    out_file_ = std::make_unique<cli::OutputFile>(args_.out);
+    if (!args_.summary.empty()) summary_file_ = std::make_unique<cli::OutputFile>(args_.summary);
+    // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
+    if (!args_.report.empty()) report_file_ = std::make_unique<cli::OutputFile>(args_.report);
+    if (!args_.geojson.empty()) {
+      geojson_file_ = std::make_unique<cli::OutputFile>(args_.geojson);
+      as_output_error([&] {
+        geojson_.emplace(geojson_file_->stream(), plan_.options.source_crs,
+                         args_.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
+      });
+      geojson_->with_combined_factor(plan_.with_heights);
+      geojson_->with_all_digits(args_.all_digits);
+    }
+    if (!args_.gpkg.empty()) {
+      gpkg_file_ = cli::OutputFile::for_named_writer(args_.gpkg, ".gpkg");
+      as_output_error([&] {
+        gpkg_.emplace(gpkg_file_->temp_path(), plan_.options.source_crs, gpkg_layer_name(args_.gpkg));
+        gpkg_->with_combined_factor(plan_.with_heights);
+      });
+    }
+    writer_.emplace(out_file_->stream());
+    writer_->with_combined_factor(plan_.with_heights);
+    writer_->with_all_digits(args_.all_digits);
+    writer_->with_bounds(args_.bounds);
+    extra_.emplace(plan_.units, args_.keep_fields, first, plan_.with_heights, args_.all_digits);
+    writer_->with_extra_columns(extra_->names());
+    writer_->write_header();
+  }
+
+  /// One feature that was read (its geometry is set) and its result.
+  void add(const InputFeature& feature, const AuditResult& result) {
+    std::optional<AuditResult> annotated;
+    if (!result.failed.empty()) {
+      annotated = result;
+      annotated->message = row_message(result);
+    }
+    const AuditResult& row = annotated ? *annotated : result;
+    extra_->cells(feature, &row, writer_->extra_cells());
+    writer_->write_row(feature.id, row);
+    if (gpkg_) as_output_error([&] { gpkg_->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
+    summary_.add(feature, result);
+    if (report_) report_->add(feature.id, *feature.geometry, result);
+    if (geojson_) geojson_->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
+  }
+
+  /// One feature that could not be read: an invalid row naming the reason.
+  void add_unread(const InputFeature& feature) {
+    extra_->cells(feature, nullptr, writer_->extra_cells());
+    writer_->write_unread_row(feature.id, feature.error, feature.declared_type);
+    summary_.add_unread(feature);
+    if (report_) report_->add_unread(feature.id);
+    if (geojson_) geojson_->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+    if (gpkg_)
+      as_output_error([&] {
+        gpkg_->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
+      });
+  }
+
+  /// Completes every file, then renames them into place: none is, unless all could be completed.
+  void finish(const cli::AuditSummary::Context& context) {
+    if (geojson_) geojson_->finish();
+    if (gpkg_) as_output_error([&] { gpkg_->finish(); });
+    if (report_) {
+      if (plan_.report_html) report_->write_html(report_file_->stream());
+      else report_->write_svg(report_file_->stream());
+    }
+    if (summary_file_) summary_file_->stream() << summary_.to_json(context).dump(2) << "\n";
+    for (auto* file : {&out_file_, &geojson_file_, &gpkg_file_, &report_file_, &summary_file_})
+      if (*file) (*file)->finish();
+    for (auto* file : {&out_file_, &geojson_file_, &gpkg_file_, &report_file_, &summary_file_})
+      if (*file) (*file)->commit();
+  }
+
+ private:
+  const AuditArgs& args_;
+  const AuditPlan& plan_;
+  cli::AuditSummary summary_;
+  std::optional<ReportCollector> report_;
+  std::unique_ptr<cli::OutputFile> out_file_, summary_file_, report_file_, geojson_file_, gpkg_file_;
+  std::optional<ResultCsvWriter> writer_;
+  std::optional<ResultGeoJsonWriter> geojson_;
+  std::optional<ResultGeoPackageWriter> gpkg_;
+  std::optional<ExtraColumns> extra_;
+};
+
+int run_audit(const AuditArgs& args) {
+  AuditPlan plan;
+  if (const std::string problem = plan_audit(args, plan); !problem.empty()) return fail_run(problem);
+  const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
+  std::optional<FeatureReader> reader;
+  if (const std::string problem = open_input(args, input_name, plan, reader); !problem.empty())
+    return fail_run(problem);
   std::optional<Auditor> auditor;
   try {
-    auditor.emplace(options);
+    auditor.emplace(plan.options);
   } catch (const Error& e) {
     return fail_run(e.what());
   } catch (const std::exception& e) {
     return fail_run(std::string("cannot set up the audit: ") + e.what());
   }
 
-  // Outputs are opened when the first feature has been read, so that an unreadable input leaves nothing behind;
-  // each is written under a temporary name and renamed into place once complete (examples/output_file.hpp).
-  std::unique_ptr<cli::OutputFile> out_file, summary_file, report_file, geojson_file, gpkg_file;
-  std::optional<ResultCsvWriter> writer;
-  std::optional<ResultGeoJsonWriter> geojson;
-  std::optional<ResultGeoPackageWriter> gpkg;
-  // The GeoPackage (GDAL) and the GeoJSON transformation (PROJ): their errors are an output's, not the input's.
-  auto as_output_error = [&](auto write) {
-    try {
-      write();
-    } catch (const Error& e) {
-      throw cli::OutputError(e.what());
-    }
-  };
-  std::optional<ExtraColumns> extra;
-  auto open_outputs = [&](const InputFeature* first) {
-    out_file = std::make_unique<cli::OutputFile>(args.out);
-    if (!args.summary.empty()) summary_file = std::make_unique<cli::OutputFile>(args.summary);
-    // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
-    if (!args.report.empty()) report_file = std::make_unique<cli::OutputFile>(args.report);
-    if (!args.geojson.empty()) {
-      geojson_file = std::make_unique<cli::OutputFile>(args.geojson);
-      as_output_error([&] {
-        geojson.emplace(geojson_file->stream(), options.source_crs,
-                        args.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
-      });
-      geojson->with_combined_factor(with_heights);
-      geojson->with_all_digits(args.all_digits);
-    }
-    if (!args.gpkg.empty()) {
-      gpkg_file = cli::OutputFile::for_named_writer(args.gpkg, ".gpkg");
-      as_output_error([&] {
-        gpkg.emplace(gpkg_file->temp_path(), options.source_crs, gpkg_layer_name(args.gpkg));
-        gpkg->with_combined_factor(with_heights);
-      });
-    }
-    writer.emplace(out_file->stream());
-    writer->with_combined_factor(with_heights);
-    writer->with_bounds(args.bounds);
-    writer->with_all_digits(args.all_digits);
-    extra.emplace(units, args.keep_fields, first, with_heights, args.all_digits);
-    writer->with_extra_columns(extra->names());
-    writer->write_header();
-  };
-
-  cli::AuditSummary summary;
-  std::optional<ReportCollector> report;
-  if (!args.report.empty()) {
-    ReportOptions report_options;
-    report_options.input_name = args.input == "-" ? std::string("standard input") : args.input;
-    report_options.length_unit = units.length_unit;
-    report_options.area_unit = units.area_unit;
-    report_options.length_unit_m = units.length_m;
-    report_options.area_unit_m2 = units.area_m2;
-    report_options.caution = cli::caution_text;
-    report.emplace(*auditor, report_options);
-  }
+  AuditOutputs outputs(args, plan, *auditor, input_name);
   Progress progress;
   RunOptions run_options;
   run_options.threads = args.threads;
   try {
     run_audit(*reader, *auditor, run_options, [&](const InputFeature& feature, const AuditResult& result) {
-      if (!writer) open_outputs(&feature);
-      if (feature.geometry) {
-        std::optional<AuditResult> annotated;
-        if (!result.failed.empty()) {
-          annotated = result;
-          annotated->message = row_message(result);
-        }
-        const AuditResult& row = annotated ? *annotated : result;
-        extra->cells(feature, &row, writer->extra_cells());
-        writer->write_row(feature.id, row);
-        if (gpkg) as_output_error([&] { gpkg->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
-        summary.add(feature, result);
-        if (report) report->add(feature.id, *feature.geometry, result);
-        if (geojson) geojson->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
-      } else {
-        extra->cells(feature, nullptr, writer->extra_cells());
-        writer->write_unread_row(feature.id, feature.error, feature.declared_type);
-        summary.add_unread(feature);
-        if (report) report->add_unread(feature.id);
-        if (geojson) geojson->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
-        if (gpkg)
-          as_output_error([&] {
-            gpkg->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
-          });
-      }
-      progress.update(summary.read());
+      if (!outputs.opened()) outputs.open(&feature);
+      if (feature.geometry) outputs.add(feature, result);
+      else outputs.add_unread(feature);
+      progress.update(outputs.summary().read());
     });
-    if (!writer) open_outputs(nullptr);  // an input without features still gets its header line
+    if (!outputs.opened()) outputs.open(nullptr);  // an input without features still gets its header line
   } catch (const cli::OutputError& e) {
     progress.finish();
     return fail_run(e.what());
   } catch (const Error& e) {
     progress.finish();
-    if (!writer) return fail_run(input_name + ": " + e.what());
+    if (!outputs.opened()) return fail_run(input_name + ": " + e.what());
     // No output file is left: the temporary files are removed when their owners go (a CSV on standard output
     // keeps the rows already written).
     const bool to_stdout = args.out.empty() || args.out == "-";
-    return fail_run(input_name + ": " + e.what() + " (" + std::to_string(summary.read()) + " feature rows " +
+    return fail_run(input_name + ": " + e.what() + " (" + std::to_string(outputs.summary().read()) +
+                    " feature rows " +
                     (to_stdout ? "were written to standard output before it; no other output was kept)"
                                : "were read before it; no output file was written)"));
   }
   progress.finish();
   const std::vector<InputProblem>& problems = reader->problems();
+  const cli::AuditSummary& summary = outputs.summary();
   if (summary.read() == 0 && !problems.empty())  // damaged, and not one feature in it: nothing was audited
     return fail_run(input_name + ": " + problems.front().message + "; no feature could be read");
-  const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, units, &problems};
+  const cli::AuditSummary::Context context{input_name, reader->format(), &*auditor, plan.units, &problems};
   try {
-    if (geojson) geojson->finish();
-    if (gpkg) as_output_error([&] { gpkg->finish(); });
-    if (report) {
-      if (report_html) report->write_html(report_file->stream());
-      else report->write_svg(report_file->stream());
-    }
-    if (summary_file) summary_file->stream() << summary.to_json(context).dump(2) << "\n";
-    // Every file is complete before the first is renamed into place.
-    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
-      if (*file) (*file)->finish();
-    for (auto* file : {&out_file, &geojson_file, &gpkg_file, &report_file, &summary_file})
-      if (*file) (*file)->commit();
+    outputs.finish(context);
   } catch (const cli::OutputError& e) {
     return fail_run(e.what());
   }
@@ -495,22 +539,11 @@ const char* audit_footer =
 
 }  // namespace
 
-int main(int argc, char** argv) {
-  // A closed standard descriptor would be taken by the next file opened (PROJ's database, an output), which would
-  // then be read as the input or written with the rows: hold each on /dev/null, and remember a closed input.
-  for (const int fd : {STDIN_FILENO, STDOUT_FILENO, STDERR_FILENO}) {
-    if (fcntl(fd, F_GETFD) != -1 || errno != EBADF) continue;
-    if (open("/dev/null", fd == STDIN_FILENO ? O_RDONLY : O_WRONLY) == fd && fd == STDIN_FILENO)
-      cli::standard_input_closed() = true;
-  }
-  std::ios::sync_with_stdio(false);
-  CLI::App app{"gridtruth: how wrong do lengths and areas become on the grid of a projected CRS?"};
-  app.name("gridtruth");
-  app.set_version_flag("--version", std::string("gridtruth ") + GRIDTRUTH_VERSION);
-  app.require_subcommand(1);
-  app.footer(std::string("\nRun 'gridtruth COMMAND --help' for a command's options.\n\n") + cli::caution_text + "\n");
+namespace gridtruth::cli {
 
-  AuditArgs args;
+Command set_up_audit(CLI::App& app) {
+  auto shared = std::make_shared<AuditArgs>();
+  AuditArgs& args = *shared;
   CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
   audit->add_option("INPUT", args.input, "GeoJSON, newline-delimited GeoJSON or CSV with WKT; '-' for standard input")
       ->required();
@@ -586,48 +619,15 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   cli::add_trusted_crs_flag(audit);
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
-
-  // The other commands register themselves (examples/commands.hpp).
-  std::vector<cli::Command> commands;
-  std::string command_names = "audit";
-  bool known = argc > 1 && std::string(argv[1]) == "audit";
-  for (const cli::CommandSpec& spec : cli::command_registry()) {
-    commands.push_back(spec.setup(app));
-    command_names += ", " + spec.name;
-    known = known || (argc > 1 && spec.name == argv[1]);
-  }
-  if (argc > 1 && argv[1][0] != '-' && !known)
-    return fail_run("unknown command \"" + std::string(argv[1]) + "\" (the commands are " + command_names +
-                    "; see 'gridtruth --help')");
-  try {
-    app.parse(argc, argv);
-  } catch (const CLI::ParseError& e) {
-    if (e.get_exit_code() == 0) {  // --help, --version
-      // The audit command's own help opens with the long description (the command list keeps the short one).
-      if (app.got_subcommand(audit)) audit->description(audit_description);
-      return app.exit(e);
-    }
-    std::string what = e.what();
-    for (auto& c : what)
-      if (c == '\n') c = ' ';
-    return fail_run(what + " (see 'gridtruth " + (app.got_subcommand(audit) ? "audit " : "") + "--help')");
-  }
-  // CRS definitions come from the command line and input files: PROJ opens only its own data files unless told.
-  set_crs_file_access(cli::trusted_crs_given() ? CrsFileAccess::any : CrsFileAccess::data_directories);
-  for (const cli::Command& command : commands) {
-    if (!app.got_subcommand(command.app)) continue;
+  // An exception escaping the run is a bug: say so (the other commands' reach main() as their reason).
+  auto run = [shared] {
     try {
-      return command.run();
-    } catch (const std::exception& e) {
-      return fail_run(e.what());
-    }
-  }
-  if (app.got_subcommand(audit)) {
-    try {
-      return run_audit(args);
+      return run_audit(*shared);
     } catch (const std::exception& e) {
       return fail_run(std::string("internal error: ") + e.what());
     }
-  }
-  return fail_run("no command given (see 'gridtruth --help')");
+  };
+  return Command{audit, run, audit_description, true};
 }
+
+}  // namespace gridtruth::cli

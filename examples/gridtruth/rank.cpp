@@ -7,7 +7,6 @@
 #include <string>
 #include <vector>
 
-#include "audit_summary.hpp"
 #include "commands.hpp"
 #include "output_file.hpp"
 #include "rank_input.hpp"
@@ -36,6 +35,22 @@ struct RankArgs {
 std::string cell(double v) { return std::isfinite(v) ? format_number(v) : ""; }
 
 std::string inside_text(const std::optional<bool>& inside) { return inside ? (*inside ? "true" : "false") : ""; }
+
+/// --out: the first `top` candidates as CSV. Throws OutputError.
+void write_rank_csv(const std::string& path, const RankReport& report, std::size_t top) {
+  OutputFile file(path);
+  std::ostream& csv = file.stream();
+  csv << "crs,name,kind,metric,worst_ppm,p95_ppm,pass_share,inside_area_of_use,definition\r\n";
+  for (std::size_t k = 0; k < report.ranked.size() && k < top; ++k) {
+    const RankedCrs& r = report.ranked[k];
+    csv << csv_field(r.candidate.crs) << ',' << csv_field(r.candidate.name) << ','
+        << (r.candidate.generated ? "generated" : "registry") << ',' << to_string(r.metric) << ','
+        << cell(r.worst_ppm) << ',' << cell(r.p95_ppm) << ',' << cell(r.pass_share) << ','
+        << inside_text(r.candidate.inside_area_of_use) << ','
+        << csv_field(r.candidate.generated ? r.candidate.definition : "") << "\r\n";
+  }
+  file.commit();
+}
 
 int run_rank(const RankArgs& a) {
   RankOptions options;
@@ -67,18 +82,7 @@ int run_rank(const RankArgs& a) {
   }
   if (!a.out.empty()) {
     try {
-      OutputFile file(a.out);
-      std::ostream& csv = file.stream();
-      csv << "crs,name,kind,metric,worst_ppm,p95_ppm,pass_share,inside_area_of_use,definition\r\n";
-      for (std::size_t k = 0; k < report.ranked.size() && k < a.top; ++k) {
-        const RankedCrs& r = report.ranked[k];
-        csv << csv_field(r.candidate.crs) << ',' << csv_field(r.candidate.name) << ','
-            << (r.candidate.generated ? "generated" : "registry") << ',' << to_string(r.metric) << ','
-            << cell(r.worst_ppm) << ',' << cell(r.p95_ppm) << ',' << cell(r.pass_share) << ','
-            << inside_text(r.candidate.inside_area_of_use) << ','
-            << csv_field(r.candidate.generated ? r.candidate.definition : "") << "\r\n";
-      }
-      file.commit();
+      write_rank_csv(a.out, report, a.top);
     } catch (const OutputError& e) {
       std::cerr << "gridtruth rank: " << e.what() << "\n";
       return 2;
@@ -145,7 +149,7 @@ Command set_up(CLI::App& tool) {
                   "Exit status: 0 ranked, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
   add_trusted_crs_flag(app);
-  return Command{app, [args] { return run_rank(*args); }};
+  return Command{app, [args] { return run_rank(*args); }, {}, false};
 }
 
 const CommandRegistrar registrar{"rank", set_up};

@@ -98,7 +98,4 @@ class AuditSummary {
   std::size_t look_projected_ = 0;                // invalid because geographic input looked projected
 };
 
-/// The caution printed with --help and every summary.
-extern const char* const caution_text;
-
 }  // namespace gridtruth::cli

@@ -1,10 +1,12 @@
-// The gridtruth tool's commands besides `audit`: each lives in its own examples/cmd_<name>.cpp and registers
-// itself at start-up, so adding a command touches neither main() nor the build files.
+// The gridtruth tool's commands: each lives in its own examples/gridtruth/<name>.cpp. `audit` is set up first by
+// main() (set_up_audit(), so that it leads the command list); every other command registers itself at start-up,
+// so adding one touches neither main() nor the build files.
 #pragma once
 
 #include <CLI/CLI.hpp>
 
 #include <functional>
+#include <iostream>
 #include <string>
 #include <utility>
 #include <vector>
@@ -16,7 +18,30 @@ namespace gridtruth::cli {
 struct Command {
   CLI::App* app = nullptr;
   std::function<int()> run;
+  /// The description the command's own --help opens with; empty: the summary line the command list shows.
+  std::string help_description;
+  /// Whether a bad option's message points at the command's own help ("see 'gridtruth audit --help'") rather
+  /// than the tool's.
+  bool own_help_hint = false;
 };
+
+/// The caution every command's --help and the audit's summaries print.
+inline constexpr const char* caution_text =
+    "Caution: these figures support, and do not replace, licensed survey practice and local codes.";
+
+/// The exit statuses every command shares.
+constexpr int exit_ok = 0;        ///< done; no findings
+constexpr int exit_findings = 1;  ///< done, with findings (a failed tolerance, an invalid or unmeasurable feature)
+constexpr int exit_unusable = 2;  ///< nothing could be done: a bad option, an unreadable input, an unknown CRS
+
+/// One line on standard error, "gridtruth: <reason>"; returns exit_unusable.
+inline int fail_run(const std::string& reason) {
+  std::cerr << "gridtruth: " << reason << "\n";
+  return exit_unusable;
+}
+
+/// Declares `gridtruth audit` on the tool's app (examples/gridtruth/audit.cpp).
+Command set_up_audit(CLI::App& tool);
 
 /// Declares a command on the tool's app (options bound to storage the function keeps alive).
 using CommandSetup = std::function<Command(CLI::App& tool)>;

@@ -5,7 +5,6 @@
 #include <memory>
 #include <string>
 
-#include "audit_summary.hpp"
 #include "commands.hpp"
 #include "output_file.hpp"
 #include "gridtruth/error.hpp"
@@ -120,7 +119,7 @@ Command set_up(CLI::App& tool) {
                           "Exit status: 0 tailored, 2 bad options or unreadable input.\n\n") +
               caution_text + "\n");
   add_trusted_crs_flag(app);
-  return Command{app, [args] { return run_tailor(*args); }};
+  return Command{app, [args] { return run_tailor(*args); }, {}, false};
 }
 
 const CommandRegistrar registrar{"tailor", set_up};
