@@ -32,8 +32,9 @@ ALLOWED = {
 # public header must be placed in a room.
 PUBLIC_ROOM = {
     "error": "core", "geometry": "core", "crs": "core", "tolerance": "core", "version": "core",
+    "compensated_sum": "core",
     "io": "io",
-    "audit": "audit", "runner": "audit",
+    "audit": "audit", "runner": "audit", "statistics": "audit",
     "report": "report",
     "rank": "choose", "tailor": "choose",
     "cells": "cells",

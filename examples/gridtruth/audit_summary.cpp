@@ -30,24 +30,7 @@ SummaryUnits summary_units(std::string_view name) {
               "unknown units \"" + std::string(name) + "\" (expected metric, hectare, acre or us-survey-acre)");
 }
 
-void CompensatedSum::add(double v) {
-  // Neumaier's variant of Kahan summation.
-  const double t = sum_ + v;
-  if (std::fabs(sum_) >= std::fabs(v)) compensation_ += (sum_ - t) + v;
-  else compensation_ += (v - t) + sum_;
-  sum_ = t;
-}
-
 namespace {
-
-bool is_linear(GeometryType t) { return t == GeometryType::line_string || t == GeometryType::multi_line_string; }
-bool is_areal(GeometryType t) { return t == GeometryType::polygon || t == GeometryType::multi_polygon; }
-
-bool worse(const WorstFeature& a, const WorstFeature& b) {
-  const double fa = std::fabs(a.error_ppm), fb = std::fabs(b.error_ppm);
-  if (fa != fb) return fa > fb;
-  return a.position < b.position;
-}
 
 std::string fixed(double v, int decimals) {
   if (!std::isfinite(v)) return "n/a";
@@ -77,58 +60,17 @@ nlohmann::ordered_json crs_json(const CrsInfo& c) {
 }  // namespace
 
 void AuditSummary::add(const InputFeature& feature, const AuditResult& r) {
-  ++read_;
-  switch (r.status) {
-    case Status::ok: ++ok_; break;
-    case Status::invalid: ++invalid_; break;
-    case Status::unmeasurable: ++unmeasurable_; break;
-  }
-  if (r.verdict == Verdict::pass) ++pass_;
-  if (r.verdict == Verdict::fail) ++fail_;
-  if (r.datum_operation && r.status == Status::ok) ++datum_use_[*r.datum_operation];
+  stats_.add(feature.id, feature.position, r);
   if (r.message.find("lie outside the area of use") != std::string::npos) ++outside_area_of_use_;
   if (r.message.rfind(looks_projected_text, 0) == 0) ++look_projected_;
-  if (r.status != Status::ok) return;
-
-  const Budget* b = nullptr;
-  std::string measure;
-  if (is_areal(r.type) && r.area) {
-    b = &*r.area;
-    measure = "area";
-    ++area_features_;
-    true_area_m2_.add(b->reference);
-    grid_area_m2_.add(b->grid);
-  } else if (is_linear(r.type) && r.length) {
-    b = &*r.length;
-    measure = "length";
-    ++length_features_;
-    true_length_m_.add(b->reference);
-    grid_length_m_.add(b->grid);
-  }
-  if (!b || !std::isfinite(b->error_ppm)) return;
-  worst_.push_back({feature.id, feature.position, r.type, measure, b->error_ppm, b->error, r.verdict});
-  if (worst_.size() > 4 * worst_count) {
-    std::partial_sort(worst_.begin(), worst_.begin() + worst_count, worst_.end(), worse);
-    worst_.resize(worst_count);
-  }
 }
 
-void AuditSummary::add_unread(const InputFeature&) {
-  ++read_;
-  ++invalid_;
-}
+void AuditSummary::add_unread(const InputFeature&) { stats_.add_unread(); }
 
 std::vector<std::string> AuditSummary::datum_warnings(const Auditor& a) const {
   std::vector<std::size_t> used;
-  for (const auto& entry : datum_use_) used.push_back(entry.first);
+  for (const auto& entry : stats_.datum_use()) used.push_back(entry.first);
   return a.datum_warnings(used);
-}
-
-std::vector<WorstFeature> AuditSummary::worst() const {
-  std::vector<WorstFeature> w = worst_;
-  std::sort(w.begin(), w.end(), worse);
-  if (w.size() > worst_count) w.resize(worst_count);
-  return w;
 }
 
 nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
@@ -151,7 +93,7 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
     const auto& ops = a.datum_operations();
     for (std::size_t i = 0; i < ops.size(); ++i) {
       const DatumOperation& d = ops[i];
-      const auto used = datum_use_.find(i);
+      const auto used = stats_.datum_use().find(i);
       json area = nullptr;
       if (d.area) {
         area = {{"name", d.area->name}, {"west_deg", d.area->west_deg}, {"south_deg", d.area->south_deg},
@@ -164,7 +106,7 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                             {"missing_grids", d.missing_grids},
                             {"usable", d.usable},
                             {"area_of_use", area},
-                            {"features", used == datum_use_.end() ? 0 : used->second}});
+                            {"features", used == stats_.datum_use().end() ? 0 : used->second}});
     }
     // Beside "datum_transformation" (the Python package's summary() mirrors that one): what PROJ offered.
     j["datum_operations"] = {
@@ -183,24 +125,25 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
                 {"area_unit", u.area_unit},
                 {"metres_per_length_unit", u.length_m},
                 {"square_metres_per_area_unit", u.area_m2}};
-  j["counts"] = {{"read", read_}, {"ok", ok_},     {"invalid", invalid_}, {"unmeasurable", unmeasurable_},
-                 {"pass", pass_}, {"fail", fail_}};
-  const double tl = true_length_m_.value(), gl = grid_length_m_.value();
-  const double ta = true_area_m2_.value(), ga = grid_area_m2_.value();
+  const RunStatistics& st = stats_;
+  j["counts"] = {{"read", st.read()}, {"ok", st.ok()},     {"invalid", st.invalid()},
+                 {"unmeasurable", st.unmeasurable()}, {"pass", st.pass()}, {"fail", st.fail()}};
+  const double tl = st.true_length_m(), gl = st.grid_length_m();
+  const double ta = st.true_area_m2(), ga = st.grid_area_m2();
   j["totals"] = {
-      {"length_features", length_features_},
+      {"length_features", st.length_features()},
       {"true_length", number_or_null(tl / u.length_m)},
       {"grid_length", number_or_null(gl / u.length_m)},
       {"length_error", number_or_null((gl - tl) / u.length_m)},
       {"length_error_ppm", number_or_null(ppm(gl - tl, tl))},
-      {"area_features", area_features_},
+      {"area_features", st.area_features()},
       {"true_area", number_or_null(ta / u.area_m2)},
       {"grid_area", number_or_null(ga / u.area_m2)},
       {"area_error", number_or_null((ga - ta) / u.area_m2)},
       {"area_error_ppm", number_or_null(ppm(ga - ta, ta))},
   };
   json worst = json::array();
-  for (const auto& w : this->worst()) {
+  for (const auto& w : st.worst()) {
     const double scale = w.measure == "area" ? u.area_m2 : u.length_m;
     worst.push_back({{"id", w.id},
                      {"position", w.position},
@@ -255,13 +198,14 @@ std::string AuditSummary::to_text(const Context& c) const {
     for (const DatumOperation& d : ops) usable += d.usable ? 1 : 0;
     const std::string candidates = std::to_string(ops.size()) + " candidates, " + std::to_string(usable) +
                                    " usable; --summary lists them";
-    if (datum_use_.size() == 1) {
-      const DatumOperation& d = ops[datum_use_.begin()->first];
+    const auto& datum_use = stats_.datum_use();
+    if (datum_use.size() == 1) {
+      const DatumOperation& d = ops[datum_use.begin()->first];
       s << "  datum transformation: " << d.name << " (" << accuracy(d) << ")\n    (" << candidates << ")\n";
-    } else if (datum_use_.size() > 1) {
+    } else if (datum_use.size() > 1) {
       // What the features used, per operation: PROJ's choice per feature.
       s << "  datum transformation: per feature (" << candidates << "):\n";
-      for (const auto& [index, features] : datum_use_) {
+      for (const auto& [index, features] : datum_use) {
         s << "    " << ops[index].name << " (" << accuracy(ops[index]) << "): " << features << " feature(s)\n";
       }
     } else {
@@ -278,23 +222,24 @@ std::string AuditSummary::to_text(const Context& c) const {
     for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.as_given();
     s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";
   }
-  s << "  features:     " << read_ << " read, " << ok_ << " ok, " << invalid_ << " invalid, " << unmeasurable_
-    << " unmeasurable; " << pass_ << " pass, " << fail_ << " fail\n";
-  if (area_features_ > 0) {
-    const double ta = true_area_m2_.value(), ga = grid_area_m2_.value();
-    s << "  area of " << area_features_ << " polygonal feature(s): true " << fixed(ta / u.area_m2, 4) << " "
+  const RunStatistics& st = stats_;
+  s << "  features:     " << st.read() << " read, " << st.ok() << " ok, " << st.invalid() << " invalid, "
+    << st.unmeasurable() << " unmeasurable; " << st.pass() << " pass, " << st.fail() << " fail\n";
+  if (st.area_features() > 0) {
+    const double ta = st.true_area_m2(), ga = st.grid_area_m2();
+    s << "  area of " << st.area_features() << " polygonal feature(s): true " << fixed(ta / u.area_m2, 4) << " "
       << u.area_unit << ", grid " << fixed(ga / u.area_m2, 4) << " " << u.area_unit << ", error "
       << signed_fixed((ga - ta) / u.area_m2, 4) << " " << u.area_unit << " (" << signed_fixed(ppm(ga - ta, ta), 1)
       << " ppm)\n";
   }
-  if (length_features_ > 0) {
-    const double tl = true_length_m_.value(), gl = grid_length_m_.value();
-    s << "  length of " << length_features_ << " linear feature(s): true " << fixed(tl / u.length_m, 3) << " "
+  if (st.length_features() > 0) {
+    const double tl = st.true_length_m(), gl = st.grid_length_m();
+    s << "  length of " << st.length_features() << " linear feature(s): true " << fixed(tl / u.length_m, 3) << " "
       << u.length_unit << ", grid " << fixed(gl / u.length_m, 3) << " " << u.length_unit << ", error "
       << signed_fixed((gl - tl) / u.length_m, 3) << " " << u.length_unit << " ("
       << signed_fixed(ppm(gl - tl, tl), 1) << " ppm)\n";
   }
-  const auto w = worst();
+  const auto w = st.worst();
   if (!w.empty()) {
     s << "  worst features by |ppm|:\n";
     for (const auto& f : w) {

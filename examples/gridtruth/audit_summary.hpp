@@ -12,6 +12,7 @@
 
 #include "gridtruth/audit.hpp"
 #include "gridtruth/io.hpp"
+#include "gridtruth/statistics.hpp"
 
 namespace gridtruth::cli {
 
@@ -29,28 +30,6 @@ const std::vector<std::string>& summary_unit_names();
 /// Throws Error(invalid_argument) for a name not in summary_unit_names().
 SummaryUnits summary_units(std::string_view name);
 
-/// A sum with Neumaier's compensation (long sums of areas stay exact to rounding).
-class CompensatedSum {
- public:
-  void add(double v);
-  double value() const { return sum_ + compensation_; }
-
- private:
-  double sum_ = 0;
-  double compensation_ = 0;
-};
-
-/// One entry of the worst-features list.
-struct WorstFeature {
-  std::string id;
-  std::size_t position = 0;
-  GeometryType type = GeometryType::point;
-  std::string measure;  ///< "area" or "length"
-  double error_ppm = 0;
-  double error = 0;     ///< m or m²
-  Verdict verdict = Verdict::none;
-};
-
 /// Accumulates the summary of a run feature by feature (constant memory).
 class AuditSummary {
  public:
@@ -59,17 +38,12 @@ class AuditSummary {
   void add(const InputFeature& feature, const AuditResult& result);
   void add_unread(const InputFeature& feature);
 
-  std::size_t read() const { return read_; }
-  std::size_t ok() const { return ok_; }
-  std::size_t invalid() const { return invalid_; }
-  std::size_t unmeasurable() const { return unmeasurable_; }
-  std::size_t pass() const { return pass_; }
-  std::size_t fail() const { return fail_; }
-  /// The worst features by |ppm| (areas for polygons, lengths for lines), worst first.
-  std::vector<WorstFeature> worst() const;
+  /// The counts, totals and worst features (the library's accumulator, as the report uses).
+  const RunStatistics& statistics() const noexcept { return stats_; }
+  std::size_t read() const { return stats_.read(); }
 
   /// 0, 1 as `gridtruth audit` exits for this run (2 is decided before any feature is read).
-  int exit_status() const { return (invalid_ + unmeasurable_ + fail_) > 0 ? 1 : 0; }
+  int exit_status() const { return (stats_.invalid() + stats_.unmeasurable() + stats_.fail()) > 0 ? 1 : 0; }
 
   /// Facts about the run that the summary reports besides the counts.
   struct Context {
@@ -89,11 +63,7 @@ class AuditSummary {
 
  private:
   std::vector<std::string> datum_warnings(const Auditor& auditor) const;
-  std::size_t read_ = 0, ok_ = 0, invalid_ = 0, unmeasurable_ = 0, pass_ = 0, fail_ = 0;
-  std::size_t length_features_ = 0, area_features_ = 0;
-  CompensatedSum true_length_m_, grid_length_m_, true_area_m2_, grid_area_m2_;
-  std::vector<WorstFeature> worst_;
-  std::map<std::size_t, std::size_t> datum_use_;  // Auditor::datum_operations() index → features
+  RunStatistics stats_{worst_count};
   std::size_t outside_area_of_use_ = 0;           // measured with the "lie outside the area of use" warning
   std::size_t look_projected_ = 0;                // invalid because geographic input looked projected
 };

@@ -1,22 +1,8 @@
-// Internal: Neumaier's compensated summation, for long sums of lengths and areas (DEVELOPERS.md, naming rule 8).
+// Internal: the library's compensated sum is the public gridtruth::CompensatedSum (one algorithm everywhere).
 #pragma once
 
-#include <cmath>
+#include "gridtruth/compensated_sum.hpp"
 
 namespace gridtruth::detail {
-
-/// Neumaier's compensated sum: the rounding error of each addition is carried along and added back at the end.
-class CompensatedSum {
- public:
-  void add(double v) noexcept {
-    const double t = sum_ + v;
-    comp_ += std::fabs(sum_) >= std::fabs(v) ? (sum_ - t) + v : (v - t) + sum_;
-    sum_ = t;
-  }
-  double value() const noexcept { return sum_ + comp_; }
-
- private:
-  double sum_ = 0, comp_ = 0;
-};
-
+using gridtruth::CompensatedSum;
 }  // namespace gridtruth::detail

@@ -64,41 +64,11 @@ void ReportCollector::Impl::store(Drawn d) {
 }
 
 void ReportCollector::Impl::add(std::string_view id, const Geometry& g, const AuditResult& r) {
-  ++read;
-  switch (r.status) {
-    case Status::ok: ++ok; break;
-    case Status::invalid: ++invalid; break;
-    case Status::unmeasurable: ++unmeasurable; break;
-  }
-  if (r.verdict == Verdict::pass) ++pass;
-  if (r.verdict == Verdict::fail) ++fail;
+  stats.add(id, stats.read() + 1, r);
   if (r.status != Status::ok) return;
-  if (is_areal(r.type)) ++polygons;
-  else if (is_linear(r.type)) ++line_features;
-  else ++points;
-  if (is_areal(r.type) && r.area) {
-    true_area_m2.add(r.area->reference);
-    grid_area_m2.add(r.area->grid);
-  } else if (is_linear(r.type) && r.length) {
-    true_length_m.add(r.length->reference);
-    grid_length_m.add(r.length->grid);
-  }
   const Budget* b = primary_budget(r);
   const double ppm = b ? b->error_ppm : nan_v;
-  if (std::isfinite(ppm)) {
-    add_ppm(ppm);
-    const double ref = b->reference;
-    Worst w{std::string(id), is_areal(r.type) ? "area" : "length", ppm,
-            {1e6 * b->from_edges / ref, 1e6 * b->from_scale / ref, 1e6 * b->from_datum / ref,
-             1e6 * b->from_height / ref}};
-    worst.push_back(std::move(w));
-    auto worse = [](const Worst& a, const Worst& c) { return std::fabs(a.ppm) > std::fabs(c.ppm); };
-    if (worst.size() > 4 * options.worst_count + 4) {
-      std::partial_sort(worst.begin(), worst.begin() + options.worst_count, worst.end(), worse);
-      worst.resize(options.worst_count);
-    }
-  }
-
+  if (std::isfinite(ppm)) add_ppm(ppm);
   Drawn drawn_feature = project_and_simplify(id, g, r.type, ppm);
   if (!drawn_feature.parts.empty()) store(std::move(drawn_feature));
 }
@@ -141,13 +111,6 @@ ReportCollector::Impl::Drawn ReportCollector::Impl::project_and_simplify(std::st
   return d;
 }
 
-std::vector<ReportCollector::Impl::Worst> ReportCollector::Impl::worst_sorted() const {
-  std::vector<Worst> w = worst;
-  std::sort(w.begin(), w.end(), [](const Worst& a, const Worst& b) { return std::fabs(a.ppm) > std::fabs(b.ppm); });
-  if (w.size() > options.worst_count) w.resize(options.worst_count);
-  return w;
-}
-
 /// The class step of the colour scale: four classes either side reach the 98th percentile of |ppm|.
 double ReportCollector::Impl::class_step() const {
   if (ppm_sample.empty()) return 1;
@@ -177,23 +140,24 @@ void ReportCollector::Impl::write_caption_lines(std::vector<std::string>& lines)
   for (const auto& x : auditor.options().tolerances) tol += (tol.empty() ? "" : ", ") + x.to_string();
   lines.push_back("Edges: " + auditor.edges().to_string() + "   Tolerance: " + (tol.empty() ? "none" : tol) +
                   "   Height: " + fixed_text(auditor.options().height_m, 1) + " m (unless given per feature)");
-  lines.push_back("Features: " + std::to_string(read) + " read, " + std::to_string(ok) + " ok, " +
-                  std::to_string(invalid) + " invalid, " + std::to_string(unmeasurable) + " unmeasurable; " +
-                  std::to_string(pass) + " pass, " + std::to_string(fail) + " fail; " +
+  lines.push_back("Features: " + std::to_string(stats.read()) + " read, " + std::to_string(stats.ok()) + " ok, " +
+                  std::to_string(stats.invalid()) + " invalid, " + std::to_string(stats.unmeasurable()) +
+                  " unmeasurable; " + std::to_string(stats.pass()) + " pass, " + std::to_string(stats.fail()) +
+                  " fail; " +
                   std::to_string(drawn.size()) + " drawn one by one" +
                   (aggregated ? ", " + std::to_string(aggregated) + " as cells of mean ppm" : std::string()));
-  const double tl = true_length_m.value(), gl = grid_length_m.value(), ta = true_area_m2.value(),
-               ga = grid_area_m2.value();
+  const double tl = stats.true_length_m(), gl = stats.grid_length_m(), ta = stats.true_area_m2(),
+               ga = stats.grid_area_m2();
   std::string totals = "Totals:";
-  if (line_features > 0)
+  if (stats.length_features() > 0)
     totals += " true length " + grouped(tl / options.length_unit_m, 3) + " " + options.length_unit + ", grid " +
               grouped(gl / options.length_unit_m, 3) + " " + options.length_unit + " (" +
               signed_ppm(tl != 0 ? 1e6 * (gl - tl) / tl : nan_v) + " ppm);";
-  if (polygons > 0)
+  if (stats.area_features() > 0)
     totals += " true area " + grouped(ta / options.area_unit_m2, 3) + " " + options.area_unit + ", grid " +
               grouped(ga / options.area_unit_m2, 3) + " " + options.area_unit + " (" +
               signed_ppm(ta != 0 ? 1e6 * (ga - ta) / ta : nan_v) + " ppm)";
-  if (line_features == 0 && polygons == 0) totals += " nothing measured";
+  if (stats.length_features() == 0 && stats.area_features() == 0) totals += " nothing measured";
   lines.push_back(totals);
   lines.push_back(std::string("Colours: error in ppm of the area (polygons) or length (lines); + means the grid "
                               "overstates. Isolines: ") +
@@ -212,10 +176,7 @@ ReportCollector& ReportCollector::operator=(ReportCollector&&) noexcept = defaul
 void ReportCollector::add(std::string_view id, const Geometry& geometry, const AuditResult& result) {
   impl_->add(id, geometry, result);
 }
-void ReportCollector::add_unread(std::string_view) {
-  ++impl_->read;
-  ++impl_->invalid;
-}
+void ReportCollector::add_unread(std::string_view) { impl_->stats.add_unread(); }
 void ReportCollector::write_svg(std::ostream& out) const { impl_->write_svg(out, true); }
 Metric ReportCollector::field_metric() const { return impl_->metric(); }
 std::vector<Path> ReportCollector::isolines(double scale) const {
@@ -223,7 +184,7 @@ std::vector<Path> ReportCollector::isolines(double scale) const {
   if (!(field.hi() - field.lo() >= detail::ScaleField::flat_field)) return {};
   return field.trace(scale);
 }
-std::size_t ReportCollector::features() const noexcept { return impl_->read; }
+std::size_t ReportCollector::features() const noexcept { return impl_->stats.read(); }
 std::size_t ReportCollector::drawn() const noexcept { return impl_->drawn.size(); }
 std::size_t ReportCollector::aggregated() const noexcept { return impl_->aggregated; }
 
@@ -239,27 +200,27 @@ void ReportCollector::write_html(std::ostream& o) const {
   o << "<h1>Grid error audit</h1>\n<figure id=\"figure\">\n";
   m.write_svg(o, false);
   o << "</figure>\n<h2>Counts</h2>\n<table id=\"counts\"><tr><th>read</th><th>ok</th><th>invalid</th>"
-    << "<th>unmeasurable</th><th>pass</th><th>fail</th><th>drawn</th><th>aggregated</th></tr><tr><td>" << m.read
-    << "</td><td>" << m.ok << "</td><td>" << m.invalid << "</td><td>" << m.unmeasurable << "</td><td>" << m.pass
-    << "</td><td>" << m.fail << "</td><td>" << m.drawn.size() << "</td><td>" << m.aggregated << "</td></tr></table>\n";
-  const double tl = m.true_length_m.value(), gl = m.grid_length_m.value();
-  const double ta = m.true_area_m2.value(), ga = m.grid_area_m2.value();
+    << "<th>unmeasurable</th><th>pass</th><th>fail</th><th>drawn</th><th>aggregated</th></tr><tr><td>"
+    << m.stats.read() << "</td><td>" << m.stats.ok() << "</td><td>" << m.stats.invalid() << "</td><td>"
+    << m.stats.unmeasurable() << "</td><td>" << m.stats.pass() << "</td><td>" << m.stats.fail() << "</td><td>" << m.drawn.size() << "</td><td>" << m.aggregated << "</td></tr></table>\n";
+  const double tl = m.stats.true_length_m(), gl = m.stats.grid_length_m();
+  const double ta = m.stats.true_area_m2(), ga = m.stats.grid_area_m2();
   const ReportOptions& u = m.options;
   o << "<h2>Totals</h2>\n<table id=\"totals\"><tr><th>measure</th><th>features</th><th>true</th><th>grid</th>"
     << "<th>error</th><th>error (ppm)</th></tr>\n";
-  o << "<tr><td class=\"t\">length (" << xml_escape(u.length_unit) << ")</td><td>" << m.line_features << "</td><td>"
+  o << "<tr><td class=\"t\">length (" << xml_escape(u.length_unit) << ")</td><td>" << m.stats.length_features() << "</td><td>"
     << grouped(tl / u.length_unit_m, 3) << "</td><td>" << grouped(gl / u.length_unit_m, 3) << "</td><td>"
     << grouped((gl - tl) / u.length_unit_m, 4) << "</td><td>" << (tl != 0 ? signed_ppm(1e6 * (gl - tl) / tl) : "n/a")
     << "</td></tr>\n";
-  o << "<tr><td class=\"t\">area (" << xml_escape(u.area_unit) << ")</td><td>" << m.polygons << "</td><td>"
+  o << "<tr><td class=\"t\">area (" << xml_escape(u.area_unit) << ")</td><td>" << m.stats.area_features() << "</td><td>"
     << grouped(ta / u.area_unit_m2, 3) << "</td><td>" << grouped(ga / u.area_unit_m2, 3) << "</td><td>"
     << grouped((ga - ta) / u.area_unit_m2, 4) << "</td><td>" << (ta != 0 ? signed_ppm(1e6 * (ga - ta) / ta) : "n/a")
     << "</td></tr>\n</table>\n";
   o << "<h2>Worst features</h2>\n<table id=\"worst\"><tr><th>id</th><th>measure</th><th>error (ppm)</th>"
     << "<th>edges</th><th>scale</th><th>datum</th><th>height</th></tr>\n";
-  for (const auto& w : m.worst_sorted()) {
+  for (const WorstFeature& w : m.stats.worst()) {
     o << "<tr><td class=\"t\">" << xml_escape(w.id) << "</td><td class=\"t\">" << w.measure << "</td><td>"
-      << signed_ppm(w.ppm) << "</td>";
+      << signed_ppm(w.error_ppm) << "</td>";
     for (const double p : w.parts_ppm) o << "<td>" << signed_ppm(p) << "</td>";
     o << "</tr>\n";
   }

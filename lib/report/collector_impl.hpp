@@ -11,8 +11,8 @@
 #include <string_view>
 #include <vector>
 
-#include "core/compensated_sum.hpp"
 #include "gridtruth/report.hpp"
+#include "gridtruth/statistics.hpp"
 #include "report_text.hpp"
 
 namespace gridtruth {
@@ -39,33 +39,24 @@ struct ReportCollector::Impl {
   detail::Bounds plane;   // of every projected vertex collected
   detail::Bounds source;  // of every input vertex, in the source CRS
 
-  struct Worst {
-    std::string id;
-    std::string measure;
-    double ppm = 0;
-    std::array<double, 4> parts_ppm{};  // edges, scale, datum, height
-  };
-  std::vector<Worst> worst;
 
   std::vector<double> ppm_sample;
   std::size_t ppm_count = 0;
   std::mt19937_64 rng{20250601};  // fixed seed: the same input gives the same picture
   double ppm_min = std::numeric_limits<double>::infinity(), ppm_max = -ppm_min;
 
-  std::size_t read = 0, ok = 0, invalid = 0, unmeasurable = 0, pass = 0, fail = 0;
-  std::size_t polygons = 0, line_features = 0, points = 0;
-  detail::CompensatedSum true_length_m, grid_length_m, true_area_m2, grid_area_m2;
+  RunStatistics stats;  // counts, totals, the worst features (the same accumulator as the command's summary)
 
-  Impl(const Auditor& a, ReportOptions o) : auditor(a.clone()), options(std::move(o)) {}
+  Impl(const Auditor& a, ReportOptions o)
+      : auditor(a.clone()), options(std::move(o)), stats(options.worst_count) {}
 
   /// The statistic the scale field shows: as asked, else areal for polygons, linear otherwise.
   Metric metric() const {
     if (options.field_metric) return *options.field_metric;
-    return polygons > 0 ? Metric::area : Metric::length;
+    return stats.area_features() > 0 ? Metric::area : Metric::length;
   }
 
   void add(std::string_view id, const Geometry& g, const AuditResult& r);
-  std::vector<Worst> worst_sorted() const;
   /// The class step of the colour scale: four classes either side reach the 98th percentile of |ppm|.
   double class_step() const;
   void write_caption_lines(std::vector<std::string>& lines) const;

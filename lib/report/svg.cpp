@@ -23,7 +23,6 @@ using namespace detail;
 /// One picture being written: its layout, fixed at construction, and a method per part.
 struct ReportCollector::Impl::SvgWriter {
   using Drawn = ReportCollector::Impl::Drawn;
-  using Worst = ReportCollector::Impl::Worst;
   const ReportCollector::Impl& impl;
   std::ostream& o;
   static constexpr double W = 1240;
@@ -37,7 +36,7 @@ struct ReportCollector::Impl::SvgWriter {
   double s = 1;  // pixels per CRS unit (aspect kept: metres are metres in both directions)
   double map_h = 0, used_w = 0, ox = 0;
   double step = 1;  // the colour classes' step (ppm)
-  std::vector<Worst> worst_list;
+  std::vector<WorstFeature> worst_list;
   double bars_h = 0;
   std::vector<std::string> caption;
   double caption_y = 0, H = 0;
@@ -86,7 +85,7 @@ ReportCollector::Impl::SvgWriter::SvgWriter(const ReportCollector::Impl& collect
       o(out),
       v(collected.plane),
       step(collected.class_step()),
-      worst_list(collected.worst_sorted()),
+      worst_list(collected.stats.worst()),
       unit(collected.auditor.target().linear_unit_name.empty() ? "metre" : collected.auditor.target().linear_unit_name),
       field(collected.auditor, collected.metric(), collected.source, collected.options.field_samples),
       fmin(field.lo()),
@@ -238,7 +237,7 @@ void ReportCollector::Impl::SvgWriter::write_area_of_use() const {
 }
 
 void ReportCollector::Impl::SvgWriter::write_features() const {
-  // Features: aggregated cells first, then the impl.drawn features, worst on top.
+  // Features: aggregated cells first, then the drawn features, worst on top.
   o << "<g id=\"features\" stroke-linejoin=\"round\">\n";
   if (!impl.aggregated_points.empty()) {
     const double cell_px = 6;
@@ -454,7 +453,7 @@ void ReportCollector::Impl::SvgWriter::write_budget_bars() const {
     << "Where the error comes from: worst " << worst_list.size() << " (ppm)</text>\n";
   {
     double neg = 0, pos = 0;
-    for (const Worst& w : worst_list) {
+    for (const WorstFeature& w : worst_list) {
       double n = 0, p = 0;
       for (const double part : w.parts_ppm) (part < 0 ? n : p) += part;
       neg = std::min(neg, n), pos = std::max(pos, p);
@@ -463,9 +462,9 @@ void ReportCollector::Impl::SvgWriter::write_budget_bars() const {
     const double label_w = 80, bx = right_x + label_w, bw = right_w - label_w - 10;
     auto BX = [&](double p) { return bx + (p - neg) / (pos - neg) * bw; };
     double y = bars_y + 14;
-    for (const Worst& w : worst_list) {
+    for (const WorstFeature& w : worst_list) {
       std::string id = w.id.size() > 12 ? w.id.substr(0, 11) + "\u2026" : w.id;
-      o << "<g class=\"bar\"><title>" << xml_escape(w.id) << " (" << w.measure << "): " << signed_ppm(w.ppm)
+      o << "<g class=\"bar\"><title>" << xml_escape(w.id) << " (" << w.measure << "): " << signed_ppm(w.error_ppm)
         << " ppm</title><text x=\"" << px(bx - 4) << "\" y=\"" << px(y + 12) << "\" text-anchor=\"end\" "
         << "font-size=\"10\">" << xml_escape(id) << "</text>";
       double at_neg = 0, at_pos = 0;
@@ -481,7 +480,7 @@ void ReportCollector::Impl::SvgWriter::write_budget_bars() const {
         if (*part_styles[k].pattern) o << "<rect " << r << " fill=\"url(#" << part_styles[k].pattern << ")\"/>";
       }
       // The total error: a black tick.
-      o << "<line x1=\"" << px(BX(w.ppm)) << "\" y1=\"" << px(y - 3) << "\" x2=\"" << px(BX(w.ppm)) << "\" y2=\""
+      o << "<line x1=\"" << px(BX(w.error_ppm)) << "\" y1=\"" << px(y - 3) << "\" x2=\"" << px(BX(w.error_ppm)) << "\" y2=\""
         << px(y + bar_h + 3) << "\" stroke=\"#000000\" stroke-width=\"2\"/></g>\n";
       y += bar_h + 8;
     }
