@@ -32,7 +32,7 @@ ALLOWED = {
 # public header must be placed in a room.
 PUBLIC_ROOM = {
     "error": "core", "geometry": "core", "crs": "core", "tolerance": "core", "version": "core",
-    "compensated_sum": "core",
+    "compensated_sum": "core", "text": "core",
     "io": "io",
     "audit": "audit", "runner": "audit", "statistics": "audit",
     "report": "report",

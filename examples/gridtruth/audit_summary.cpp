@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "gridtruth/error.hpp"
+#include "gridtruth/text.hpp"
 
 namespace gridtruth::cli {
 
@@ -31,20 +32,6 @@ SummaryUnits summary_units(std::string_view name) {
 }
 
 namespace {
-
-std::string fixed(double v, int decimals) {
-  if (!std::isfinite(v)) return "n/a";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  return buf;
-}
-
-std::string signed_fixed(double v, int decimals) {
-  if (!std::isfinite(v)) return "n/a";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%+.*f", decimals, v);
-  return buf;
-}
 
 double ppm(double error, double reference) { return reference != 0 ? 1e6 * error / reference : NAN; }
 
@@ -191,7 +178,7 @@ std::string AuditSummary::to_text(const Context& c) const {
     const auto& ops = a.datum_operations();
     auto accuracy = [](const DatumOperation& d) {
       return d.is_ballpark    ? std::string("ballpark: approximate only")
-             : d.accuracy_m ? "stated accuracy " + fixed(*d.accuracy_m, 3) + " m"
+             : d.accuracy_m ? "stated accuracy " + fixed_text(*d.accuracy_m, 3) + " m"
                             : std::string("accuracy unknown: the datum part has no bound");
     };
     std::size_t usable = 0;
@@ -211,7 +198,7 @@ std::string AuditSummary::to_text(const Context& c) const {
     } else {
       s << "  datum transformation: " << t.name;
       if (t.is_identity) {
-      } else if (t.accuracy_m) s << " (stated accuracy " << fixed(*t.accuracy_m, 3) << " m)";
+      } else if (t.accuracy_m) s << " (stated accuracy " << fixed_text(*t.accuracy_m, 3) << " m)";
       else s << " (accuracy unknown: the datum part has no bound)";
       if (t.is_ballpark) s << " [ballpark: approximate only]";
       s << "\n";
@@ -227,23 +214,23 @@ std::string AuditSummary::to_text(const Context& c) const {
     << st.unmeasurable() << " unmeasurable; " << st.pass() << " pass, " << st.fail() << " fail\n";
   if (st.area_features() > 0) {
     const double ta = st.true_area_m2(), ga = st.grid_area_m2();
-    s << "  area of " << st.area_features() << " polygonal feature(s): true " << fixed(ta / u.area_m2, 4) << " "
-      << u.area_unit << ", grid " << fixed(ga / u.area_m2, 4) << " " << u.area_unit << ", error "
-      << signed_fixed((ga - ta) / u.area_m2, 4) << " " << u.area_unit << " (" << signed_fixed(ppm(ga - ta, ta), 1)
+    s << "  area of " << st.area_features() << " polygonal feature(s): true " << fixed_text(ta / u.area_m2, 4) << " "
+      << u.area_unit << ", grid " << fixed_text(ga / u.area_m2, 4) << " " << u.area_unit << ", error "
+      << signed_fixed_text((ga - ta) / u.area_m2, 4) << " " << u.area_unit << " (" << signed_fixed_text(ppm(ga - ta, ta), 1)
       << " ppm)\n";
   }
   if (st.length_features() > 0) {
     const double tl = st.true_length_m(), gl = st.grid_length_m();
-    s << "  length of " << st.length_features() << " linear feature(s): true " << fixed(tl / u.length_m, 3) << " "
-      << u.length_unit << ", grid " << fixed(gl / u.length_m, 3) << " " << u.length_unit << ", error "
-      << signed_fixed((gl - tl) / u.length_m, 3) << " " << u.length_unit << " ("
-      << signed_fixed(ppm(gl - tl, tl), 1) << " ppm)\n";
+    s << "  length of " << st.length_features() << " linear feature(s): true " << fixed_text(tl / u.length_m, 3) << " "
+      << u.length_unit << ", grid " << fixed_text(gl / u.length_m, 3) << " " << u.length_unit << ", error "
+      << signed_fixed_text((gl - tl) / u.length_m, 3) << " " << u.length_unit << " ("
+      << signed_fixed_text(ppm(gl - tl, tl), 1) << " ppm)\n";
   }
   const auto w = st.worst();
   if (!w.empty()) {
     s << "  worst features by |ppm|:\n";
     for (const auto& f : w) {
-      s << "    " << f.id << "  " << to_string(f.type) << "  " << f.measure << " " << signed_fixed(f.error_ppm, 1)
+      s << "    " << f.id << "  " << to_string(f.type) << "  " << f.measure << " " << signed_fixed_text(f.error_ppm, 1)
         << " ppm";
       if (f.verdict != Verdict::none) s << "  " << to_string(f.verdict);
       s << "\n";

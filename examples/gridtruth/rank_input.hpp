@@ -14,6 +14,7 @@
 #include "commands.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "gridtruth/text.hpp"
 
 namespace gridtruth::cli {
 
@@ -56,13 +57,11 @@ inline void add_reading_options(CLI::App* app, std::string& format, std::string&
                   "property or column holding each feature's ellipsoidal height in metres" + height_note);
 }
 
-/// A number with a fixed count of decimals for the text reports; "-" for NaN, "inf" for infinities.
+/// A number with a fixed count of decimals for the text reports: fixed_text(), except that an infinite figure
+/// (a candidate that cannot measure the features: worst_ppm = inf) reads "inf".
 inline std::string fixed(double v, int decimals) {
-  if (std::isnan(v)) return "-";
-  if (std::isinf(v)) return "inf";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  return buf;
+  if (std::isinf(v)) return v > 0 ? "inf" : "-inf";
+  return fixed_text(v, decimals);
 }
 
 }  // namespace gridtruth::cli

@@ -19,6 +19,7 @@
 #include <string>
 #include <vector>
 
+#include "gridtruth/compensated_sum.hpp"
 #include "gridtruth/crs.hpp"
 
 namespace gridtruth {
@@ -154,7 +155,7 @@ class ClassAreaAccumulator {
  private:
   struct Sum {
     std::uint64_t cells = 0;
-    double sum = 0, comp = 0;
+    CompensatedSum area_m2;
   };
   void add_area(std::uint32_t code, std::uint64_t cells, double area_m2);
   const CellGrid* grid_;

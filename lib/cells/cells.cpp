@@ -397,10 +397,7 @@ void ClassAreaAccumulator::add_area(std::uint32_t code, std::uint64_t cells, dou
   }
   Sum& s = sums_[code];
   s.cells += cells;
-  // Neumaier's compensated sum.
-  const double t = s.sum + area_m2;
-  s.comp += std::fabs(s.sum) >= std::fabs(area_m2) ? (s.sum - t) + area_m2 : (area_m2 - t) + s.sum;
-  s.sum = t;
+  s.area_m2.add(area_m2);
 }
 
 void ClassAreaAccumulator::add_strip(std::size_t row_start, const std::vector<std::uint16_t>& codes) {
@@ -458,7 +455,7 @@ std::vector<ClassArea> ClassAreaAccumulator::result() const {
     ClassArea a;
     a.code = static_cast<std::uint32_t>(code);
     a.cells = s.cells;
-    a.true_area_m2 = s.sum + s.comp;
+    a.true_area_m2 = s.area_m2.value();
     a.naive_area_m2 = nominal * static_cast<double>(s.cells);
     a.difference_m2 = a.naive_area_m2 - a.true_area_m2;
     a.difference_pct = a.true_area_m2 > 0 ? 100 * a.difference_m2 / a.true_area_m2 : kNaN;

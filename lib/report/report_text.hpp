@@ -13,6 +13,7 @@
 
 #include "gridtruth/audit.hpp"
 #include "gridtruth/geometry.hpp"
+#include "gridtruth/text.hpp"
 
 namespace gridtruth::detail {
 
@@ -46,15 +47,6 @@ inline std::string xml_escape(std::string_view s) {
     }
   }
   return o;
-}
-
-inline std::string fixed_text(double v, int decimals) {
-  if (!std::isfinite(v)) return "n/a";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  std::string s = buf;
-  if (s == "-0" || s == "-0.0" || s == "-0.00") s = s.substr(1);
-  return s;
 }
 
 /// Pixel coordinates: one decimal is finer than any screen or printer needs.
