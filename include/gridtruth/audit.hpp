@@ -131,14 +131,19 @@ struct Budget {
   /// Bound on R: E_S's bound times the height lift, plus its round-off.
   double reference_bound = 0;
   /// Bound on G: the centred shoelace (area) or the sum of chords (length) in double precision with compensated
-  /// summation (Higham 2002, ch. 4), plus the projection's own numerical accuracy, assumed 1 nm per vertex or
-  /// 4 ulp of the coordinates, whichever is larger (every vertex moved by ≤ ε: length ≤ 2ε per edge, area ≤
-  /// ε·perimeter + max(π, n)·ε²).
+  /// summation (Higham 2002, ch. 4), plus the projection's own numerical accuracy, assumed 10 nm per vertex or
+  /// 4 ulp of the coordinates, whichever is larger (PROJ's point-to-point jitter reaches about 5 nm, checked in
+  /// tests/bounds_test.cpp; every vertex moved by ≤ ε: length ≤ 2ε per edge, area ≤ ε·perimeter + max(π, n)·ε²).
   double grid_bound = 0;
-  /// Bound on D: G's round-off and projection terms, plus per edge the quadrature's error estimate (edges it
-  /// integrated), 10·d²/R (length) and 10·d·c²/R (area) for an edge taken as one parabola (d its midpoint's offset
-  /// from its chord c, R the target's equatorial radius: the parabola misses the image's cubic term, which scales
-  /// as d·c/R; an estimate, tested), or 3d²/c and d·c per piece the fallback densifier accepted (the whole bulge).
+  /// Bound on D: G's round-off and projection terms, plus per edge: for an edge integrated by quadrature, the
+  /// quadrature's bound (its coefficients beyond the accepted order extrapolated from the decay seen, their effect
+  /// summed exactly, times 10; plus the nodes' noise and round-off: lib/edge_quadrature.hpp); for an edge taken as
+  /// one parabola (d its midpoint's offset from its chord c, R the target's equatorial radius, q = c/R), the
+  /// terms its three points cannot see: the cubic b₃ ≤ max(0.15·d·q, 1e-2·c·q²) (an image that changes its bend
+  /// at the middle has d ≈ 0 but b₃ of that size), 4 · 25.6·b₃²/c in length, and the quartic b₄ ≤ max(0.09·q²·
+  /// max(d/2, 2e-2·c·q²), 0.3·q·b₃), 4 · (32/15)·c·b₄ in twice the area (estimates from measured decay rates,
+  /// tested at densify tolerances of 1 mm to 10 m), the midpoint's own offset along the chord, and the projected
+  /// midpoint's accuracy (as G's); or 3d²/c and d·c per piece the fallback densifier accepted (the whole bulge).
   double densified_grid_bound = 0;
   double error_bound = 0;        ///< bound on G − R: grid_bound + reference_bound + the datum term (as from_datum)
   double from_edges_bound = 0;   ///< bound on G − D: grid_bound + densified_grid_bound
