@@ -300,6 +300,7 @@ int run_audit(const AuditArgs& args) {
                         args.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
       });
       geojson->with_combined_factor(with_heights);
+      geojson->with_bounds(args.bounds);
     }
     if (!args.gpkg.empty()) {
       gpkg_file = cli::OutputFile::for_named_writer(args.gpkg, ".gpkg");

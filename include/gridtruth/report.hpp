@@ -128,6 +128,9 @@ class ResultGeoJsonWriter {
                       GeoJsonCoordinates coordinates = GeoJsonCoordinates::wgs84);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
+  /// Adds the 14 bound properties (Budget::*_bound, named as result_columns()'s `bounds`; null where a bound does
+  /// not apply or cannot be given), after every other audit property, as ResultCsvWriter::with_bounds().
+  void with_bounds(bool on) noexcept { bounds_ = on; }
   /// One audited feature.
   void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
                      std::string_view input_properties_json = {});
@@ -147,6 +150,7 @@ class ResultGeoJsonWriter {
   std::unique_ptr<Transform> transform_;  // source CRS → WGS 84 longitude/latitude; null: coordinates as read
   std::ostream* out_;
   bool combined_factor_ = false;
+  bool bounds_ = false;
   bool first_ = true;
   bool finished_ = false;
 };
