@@ -13,6 +13,7 @@
 #include <iostream>
 #include <random>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "gridtruth/audit.hpp"
@@ -266,6 +267,55 @@ TEST(Bounds, ProjectionNoiseWithinTheAssumedAccuracy) {
     }
     std::cout << region.target << ": jitter ≥ " << worst << " m (assumed ≤ " << allowed << " m)\n";
   }
+}
+
+TEST(Bounds, StraightEdgesTruthHoldsAgainstAFinerRefinement) {
+  // Edges straight in UTM 15N's plane (EPSG:32615), audited against WGS 84 / World Mercator (the same datum: E_S =
+  // E_P = R): the truth is a refinement of each edge on the ellipsoid to the densify tolerance; its bound must hold
+  // against the same refinement 100× finer (10 µm; finer, the geodesic triangles' areas, differences of S12 of
+  // order 1e12 m², are below their round-off on pieces of metres) at 1 mm, 1 cm and 1 m.
+  std::mt19937_64 rng(test::test_seed(1517));
+  auto options = [](double densify_m) {
+    AuditOptions o = options_for("EPSG:3395", false, densify_m);
+    o.edges = EdgeSpec::parse("straight-in=EPSG:32615");
+    return o;
+  };
+  const Auditor refined(options(1e-5));
+  std::vector<Auditor> auditors;
+  for (const double densify_m : {1e-3, 1e-2, 1.0}) auditors.emplace_back(options(densify_m));
+  std::uniform_real_distribution<double> lon(-97, -87), lat(25, 60), log_edge(std::log(1e3), std::log(1e5));
+  std::uniform_int_distribution<int> vertices(4, 10);
+  Tightness length_tightness, area_tightness;
+  for (int f = 0; f < 12; ++f) {
+    const Path ring = star(rng, lon(rng), lat(rng), std::exp(log_edge(rng)), vertices(rng));
+    const std::string what = "ring of " + std::to_string(ring.size()) + " at (" + std::to_string(ring[0].x) + ", " +
+                             std::to_string(ring[0].y) + ")";
+    const AuditResult ref = refined.audit(Geometry::polygon(ring));
+    ASSERT_EQ(ref.status, Status::ok) << what << ": " << ref.message;
+    ASSERT_TRUE(std::isfinite(ref.length->ellipsoid_source_bound) && std::isfinite(ref.area->reference_bound))
+        << what;
+    for (const Auditor& a : auditors) {
+      const AuditResult r = a.audit(Geometry::polygon(ring));
+      ASSERT_EQ(r.status, Status::ok) << what << ": " << r.message;
+      const std::string at = what + " at " + std::to_string(a.options().densify_tolerance_m) + " m";
+      for (const auto& [budget, ref_budget, tightness] :
+           {std::make_tuple(&*r.length, &*ref.length, &length_tightness),
+            std::make_tuple(&*r.area, &*ref.area, &area_tightness)}) {
+        ASSERT_TRUE(std::isfinite(budget->ellipsoid_source_bound)) << at;
+        const double observed = std::fabs(budget->ellipsoid_source - ref_budget->ellipsoid_source);
+        EXPECT_LE(observed, budget->ellipsoid_source_bound + ref_budget->ellipsoid_source_bound) << at;
+        EXPECT_LE(std::fabs(budget->reference - ref_budget->reference),
+                  budget->reference_bound + ref_budget->reference_bound) << at;
+        EXPECT_EQ(budget->ellipsoid_target_bound, budget->ellipsoid_source_bound) << at;  // one datum
+        tightness->add(budget->ellipsoid_source_bound, observed, 10 * ref_budget->ellipsoid_source_bound);
+      }
+    }
+  }
+  // The bound is dominated by GeographicLib's stated accuracy per inverse (15 nm, 0.1 m²) times the pieces, far
+  // above the refinement's own error: printed, not asserted.
+  std::cout << "straight edges, bound/observed, worst: length " << length_tightness.worst << " ("
+            << length_tightness.counted << "), area " << area_tightness.worst << " (" << area_tightness.counted
+            << ")\n";
 }
 
 TEST(Bounds, DatumPartCarriesTheTransformationsStatedAccuracy) {
