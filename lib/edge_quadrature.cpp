@@ -17,6 +17,9 @@ constexpr double kUnitRoundoff = 0x1p-53;
 /// γ_k = k u / (1 − k u) (Higham 2002, lemma 3.1).
 constexpr double gamma(int k) { return k * kUnitRoundoff / (1 - k * kUnitRoundoff); }
 
+/// ∫_{−1}^{1} T_k(t) dt: 0 for odd k, −2/(k² − 1) for even k (Trefethen 2013, ch. 19).
+double chebyshev_integral(int k) { return k % 2 ? 0.0 : -2.0 / (double(k) * k - 1); }
+
 /// The interpolation and quadrature tables of one order n: n-point Gauss–Legendre nodes g_i and weights w_i on
 /// [−1, 1]; the matrices taking the n + 1 Lobatto values f_j = f(cos(jπ/n)) to the interpolant's value and
 /// derivative at g_i; the map from the same values to the interpolant's Chebyshev coefficients c_k; T_n, T'_n at
@@ -29,6 +32,7 @@ struct Rule {
   std::vector<double> top_t, top_dt;    // T_n(g_i), T'_n(g_i)
   std::vector<double> value_sum, slope_sum;  // Σ_j |value_ij|, Σ_j |slope_ij| (for round-off bounds)
   double lebesgue = 0;                  // Lebesgue constant of the Lobatto nodes, Σ_j |ℓ_j(x)| at its largest
+  std::vector<double> aliased;          // ∫ (T_k − T_{2n−k}) T_j at [(k − n − 1) * n + j], n < k ≤ 2n, j < n
 
   explicit Rule(int order) : n(order) {
     // Gauss–Legendre nodes by Newton's method on P_n from Tricomi's initial guesses (common practice; Golub and
@@ -110,6 +114,16 @@ struct Rule {
     // The Lobatto interpolant's Lebesgue constant is at most (2/π) ln(n) + 1 (Trefethen 2013, thm. 15.2); the
     // Gauss nodes sample it, the bound covers the rest.
     lebesgue = std::max(lebesgue, 2 / kPi * std::log(double(n)) + 1);
+    // T_k T_j = (T_{k+j} + T_{|k−j|})/2 (Mason and Handscomb 2003, eq. 2.38).
+    aliased.assign(n * n, 0.0);
+    for (int k = n + 1; k <= 2 * n; ++k) {
+      const int alias = 2 * n - k;
+      for (int j = 0; j < n; ++j) {
+        const double jk = 0.5 * (chebyshev_integral(k + j) + chebyshev_integral(std::abs(k - j)));
+        const double ja = 0.5 * (chebyshev_integral(alias + j) + chebyshev_integral(std::abs(alias - j)));
+        aliased[(k - n - 1) * n + j] = jk - ja;
+      }
+    }
   }
 };
 
@@ -223,7 +237,10 @@ double family_rate2(const Coefficients& c, int n, int parity) {
   if (top - bottom < 2) return 0;  // one coefficient: no rate of its own
   double envelope = 0;
   for (int k = top; k >= bottom; k -= 2) envelope = std::max(envelope, std::fabs(c[k]));
-  return std::pow(high / envelope, 2.0 / (top - bottom));
+  const double ratio = high / envelope;  // over top − bottom degrees: ρ² is its 2/(top − bottom)-th power
+  if (top - bottom == 2) return ratio;
+  if (top - bottom == 4) return std::sqrt(ratio);
+  return std::pow(ratio, 2.0 / (top - bottom));
 }
 
 /// The Chebyshev coefficients of the derivative of Σ_{k≤n} c_k T_k (degree n − 1): d_{k−1} = d_{k+1} + 2k c_k,
@@ -241,18 +258,11 @@ Coefficients derivative(const Coefficients& c, int n) {
   return d;
 }
 
-/// ∫_{−1}^{1} T_k(t) dt: 0 for odd k, −2/(k² − 1) for even k (Trefethen 2013, ch. 19).
-double chebyshev_integral(int k) { return k % 2 ? 0.0 : -2.0 / (double(k) * k - 1); }
-
-/// |∫ (T_k − T_{2n−k}) f| for f = Σ_{j<n} f_j T_j, with T_k T_j = (T_{k+j} + T_{|k−j|})/2.
-double aliased_moment(int k, int n, const Coefficients& f) {
+/// |∫ (T_k − T_{2n−k}) f| for f = Σ_{j<n} f_j T_j (n < k ≤ 2n), from the rule's table.
+double aliased_moment(const Rule& r, int k, const Coefficients& f) {
+  const double* row = &r.aliased[(k - r.n - 1) * r.n];
   double sum = 0;
-  const int alias = 2 * n - k;
-  for (int j = 0; j < n; ++j) {
-    const double jk = 0.5 * (chebyshev_integral(k + j) + chebyshev_integral(std::abs(k - j)));
-    const double ja = 0.5 * (chebyshev_integral(alias + j) + chebyshev_integral(std::abs(alias - j)));
-    sum += f[j] * (jk - ja);
-  }
+  for (int j = 0; j < r.n; ++j) sum += f[j] * row[j];
   return std::fabs(sum);
 }
 
@@ -265,8 +275,10 @@ double abs_sum(const Coefficients& c, int n) {
 bool finite(const Coord& c) noexcept { return std::isfinite(c.x) && std::isfinite(c.y); }
 
 /// The bounds of the order tried last (see edge_quadrature.hpp, "Bounds").
-void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, double lebesgue, double noise, int n) {
+void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, const Rule& rule, double noise) {
   using EQ = EdgeQuadrature;
+  const int n = rule.n;
+  const double lebesgue = rule.lebesgue;
   // The coefficients beyond n, each family (along or across, even or odd) extrapolated from its top one at the
   // largest rate ρ² per two degrees any family shows (the same function, so the same asymptotic rate: the largest
   // guards against a family that happens to decay fast at low degrees), the top one taken as at least ρ² times
@@ -290,9 +302,12 @@ void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, double lebesgue
       if (k - 2 >= 2) top[component][parity] = std::max(top[component][parity], r2 * std::fabs(c[k - 2]));
     }
   }
+  std::array<double, EdgeQuadrature::kMaxOrder + 3> power{};  // r2^i
+  power[0] = 1;
+  for (std::size_t i = 1; i < power.size(); ++i) power[i] = power[i - 1] * r2;
   auto extrapolated = [&](int component, int k) {  // |c_k| for k > n
     const int from = (n % 2 == k % 2) ? n : n - 1;
-    return top[component][k % 2] * std::pow(r2, (k - from) / 2);
+    return top[component][k % 2] * power[(k - from) / 2];
   };
   const double tail_beyond = 1 / (1 - r2);  // Σ_{i≥0} r2^i, at the slowest family's rate
   // The nodes as given are off by at most e (the projection's accuracy, and the rounding of the coordinates):
@@ -321,8 +336,8 @@ void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, double lebesgue
   double area = 0, length_y = 0, tail_a = 0, tail_b = 0, tail_dp = 0;
   for (int k = n + 1; k <= 2 * n; ++k) {
     const double ak = extrapolated(0, k), bk = extrapolated(1, k);
-    area += bk * aliased_moment(k, n, dx) + ak * aliased_moment(k, n, dy);
-    length_y += bk * aliased_moment(k, n, ddy);
+    area += bk * aliased_moment(rule, k, dx) + ak * aliased_moment(rule, k, dy);
+    length_y += bk * aliased_moment(rule, k, ddy);
     tail_a += ak;
     tail_b += bk;
     tail_dp += 2.0 * k * k * (ak + bk);
@@ -414,11 +429,11 @@ EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double leng
     res.area_change = 0.5 * std::fabs(q.bulge2 - q.bulge2_low);
     if (res.length_change <= length_target && res.area_change <= area_target) {
       res.accepted = true;
-      set_bounds(res, q, rule.lebesgue, noise, n);
+      set_bounds(res, q, rule, noise);
       return res;
     }
     if (2 * n > kMaxOrder) {
-      set_bounds(res, q, rule.lebesgue, noise, n);
+      set_bounds(res, q, rule, noise);
       return res;
     }
     // Double the order: the old nodes are the even ones of the new.
