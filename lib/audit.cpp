@@ -694,8 +694,8 @@ class PathDensifier {
   /// Sums of the quadrature's bounds (edge_quadrature.hpp) over the edges it measured.
   double quadrature_length_error_units() const { return length_error_.value(); }
   double quadrature_area_error_units2() const { return area_error_.value(); }
-  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's estimates,
-  /// the parabola edges' estimate, the fallback pieces' whole bulges; length in the unit, area as twice the area.
+  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's bounds,
+  /// the parabola edges' terms, the fallback pieces' whole bulges; length in the unit, area as twice the area.
   double method_length_bound_units() const { return length_error_.value() + bound_length_.value(); }
   double method_area2_bound_units2() const { return 2 * area_error_.value() + bound_area2_.value(); }
   std::size_t quadrature_edges() const { return quadrature_edges_; }

@@ -57,8 +57,9 @@ struct AuditOptions {
   double height_m = 0;                   ///< ellipsoidal height of the features (ground lift), unless audit() is
                                          ///< given one per feature; within [-10 000 m, 100 000 m]
   /// An edge whose projected midpoint lies within this distance of its chord is taken as a parabola; any other
-  /// edge is integrated by quadrature until its error estimate is within 1/100 of it in length and 1/100 of it
-  /// times the chord in area (Budget::densified_grid).
+  /// edge is integrated by quadrature until dropping its top degree changes the length by at most 1/100 of it
+  /// and the area by at most 1/100 of it times the chord (Budget::densified_grid; what bounds the result is
+  /// Budget::densified_grid_bound).
   double densify_tolerance_m = 0.001;
   std::vector<Tolerance> tolerances;     ///< limits for the verdict; empty → no verdict
   /// What edges mean. Absent: geodesic for a geographic source, straight in the source CRS for a projected one.
