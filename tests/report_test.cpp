@@ -11,6 +11,7 @@
 #include <sys/wait.h>
 #include <zlib.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <cstdio>
@@ -511,6 +512,58 @@ TEST_F(ReportCliTest, GeojsonCarriesEveryCsvColumnAndTheCoordinatesAsRead) {
     for (const auto& [key, value] : in.at("properties").items()) {
       EXPECT_EQ(features[k].at("properties").at(key), value) << key << " of feature " << k;
     }
+  }
+}
+
+TEST_F(ReportCliTest, GeojsonCarriesTheBoundColumnsOnlyWhenAsked) {
+  // --bounds adds the 14 bound columns after every other to the CSV (result_columns(…, true)); the GeoJSON
+  // properties carry the same values under the same names, after the other audit properties, and neither has
+  // them without --bounds.
+  // Exit status 1: the demo holds an invalid feature.
+  ASSERT_LE(audit({demo_geojson, "--crs", "EPSG:32615", "--bounds", "--out", path("rows.csv"), "--geojson",
+                   path("out.geojson")}), 1)
+      << slurp(path("stderr"));
+  const auto rows = parse_csv(slurp(path("rows.csv")));
+  ASSERT_GE(rows.size(), 2u);
+  const std::vector<std::string>& header = rows[0];
+  const auto& with = result_columns(false, true);
+  ASSERT_EQ(header.size(), with.size());
+  const std::size_t first_bound = result_columns(false).size();
+  EXPECT_EQ(header[first_bound], "true_length_bound_m");
+  const auto doc = nlohmann::ordered_json::parse(slurp(path("out.geojson")));
+  const auto& features = doc.at("features");
+  ASSERT_EQ(features.size(), rows.size() - 1);
+  int numeric_bounds = 0;
+  for (std::size_t k = 0; k < features.size(); ++k) {
+    const auto& props = features[k].at("properties");
+    std::vector<std::string> audit_keys;  // the properties named like a column, in the order written
+    for (const auto& [key, value] : props.items()) {
+      if (std::find(header.begin(), header.end(), key) != header.end()) audit_keys.push_back(key);
+    }
+    EXPECT_EQ(audit_keys, header) << "feature " << k;
+    for (std::size_t c = first_bound; c < header.size(); ++c) {
+      SCOPED_TRACE(header[c] + " of row " + std::to_string(k));
+      const auto& v = props.at(header[c]);
+      const std::string& cell = rows[k + 1][c];
+      if (v.is_null()) {
+        EXPECT_EQ(cell, "");
+      } else {
+        ASSERT_TRUE(v.is_number());
+        EXPECT_EQ(v.get<double>(), std::strtod(cell.c_str(), nullptr));
+        EXPECT_GE(v.get<double>(), 0);
+        ++numeric_bounds;
+      }
+    }
+  }
+  EXPECT_GT(numeric_bounds, 0);
+  // Without --bounds: no bound column, no bound property.
+  ASSERT_LE(audit({demo_geojson, "--crs", "EPSG:32615", "--out", path("rows2.csv"), "--geojson",
+                   path("out2.geojson")}), 1)
+      << slurp(path("stderr"));
+  EXPECT_EQ(parse_csv(slurp(path("rows2.csv")))[0].size(), first_bound);
+  for (const auto& f : nlohmann::json::parse(slurp(path("out2.geojson"))).at("features")) {
+    EXPECT_FALSE(f.at("properties").contains("true_length_bound_m"));
+    EXPECT_FALSE(f.at("properties").contains("area_from_height_bound_m2"));
   }
 }
 

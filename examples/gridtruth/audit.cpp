@@ -323,6 +323,7 @@ class AuditOutputs {
       });
       geojson_->with_combined_factor(plan_.with_heights);
       geojson_->with_all_digits(args_.all_digits);
+      geojson_->with_bounds(args_.bounds);
     }
     if (!args_.gpkg.empty()) {
       gpkg_file_ = cli::OutputFile::for_named_writer(args_.gpkg, ".gpkg");

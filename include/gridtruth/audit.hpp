@@ -57,8 +57,9 @@ struct AuditOptions {
   double height_m = 0;                   ///< ellipsoidal height of the features (ground lift), unless audit() is
                                          ///< given one per feature; within [-10 000 m, 100 000 m]
   /// An edge whose projected midpoint lies within this distance of its chord is taken as a parabola; any other
-  /// edge is integrated by quadrature until its error estimate is within 1/100 of it in length and 1/100 of it
-  /// times the chord in area (Budget::densified_grid).
+  /// edge is integrated by quadrature until dropping its top degree changes the length by at most 1/100 of it
+  /// and the area by at most 1/100 of it times the chord (Budget::densified_grid; what bounds the result is
+  /// Budget::densified_grid_bound).
   double densify_tolerance_m = 0.001;
   std::vector<Tolerance> tolerances;     ///< limits for the verdict; empty → no verdict
   /// What edges mean. Absent: geodesic for a geographic source, straight in the source CRS for a projected one.
@@ -123,22 +124,31 @@ struct Budget {
   // bound (and so the error's) also holds the datum transformation's stated accuracy. See README "Accuracy".
   /// Bound on E_S: GeographicLib's stated accuracy per edge (15 nm in length, 0.1 m² in area, Karney 2013 J.
   /// Geodesy 87:43, sect. 9; geodesic and rhumb edges), or the closed-form short-edge path's tested bound (1e-9
-  /// relative + 1 nm, 1e-3 m²), plus the summation's round-off. NaN for edges straight in a CRS (their truth is a
-  /// refinement to the densify tolerance, not bounded yet).
+  /// relative + 1 nm, 1e-3 m²), plus the summation's round-off. For edges straight in a CRS (a refinement on the
+  /// ellipsoid to the densify tolerance), per accepted piece: GeographicLib's accuracy for its three inverses
+  /// (45 nm, 0.3 m²), the parabola's unseen cubic and quartic terms and its midpoint's offsets (as D's parabola
+  /// edges), the midpoint's accuracy from PROJ (10 nm); held against a 100× finer refinement in
+  /// tests/bounds_test.cpp, where the stated GeographicLib terms make it micrometres and square metres above the
+  /// observed nanometres and 1e-4 m².
   double ellipsoid_source_bound = 0;
   /// Bound on E_P, as ellipsoid_source_bound (0 difference in method: the same walk on the target's ellipsoid).
   double ellipsoid_target_bound = 0;
   /// Bound on R: E_S's bound times the height lift, plus its round-off.
   double reference_bound = 0;
   /// Bound on G: the centred shoelace (area) or the sum of chords (length) in double precision with compensated
-  /// summation (Higham 2002, ch. 4), plus the projection's own numerical accuracy, assumed 1 nm per vertex or
-  /// 4 ulp of the coordinates, whichever is larger (every vertex moved by ≤ ε: length ≤ 2ε per edge, area ≤
-  /// ε·perimeter + max(π, n)·ε²).
+  /// summation (Higham 2002, ch. 4), plus the projection's own numerical accuracy, assumed 10 nm per vertex or
+  /// 4 ulp of the coordinates, whichever is larger (PROJ's point-to-point jitter reaches about 5 nm, checked in
+  /// tests/bounds_test.cpp; every vertex moved by ≤ ε: length ≤ 2ε per edge, area ≤ ε·perimeter + max(π, n)·ε²).
   double grid_bound = 0;
-  /// Bound on D: G's round-off and projection terms, plus per edge the quadrature's error estimate (edges it
-  /// integrated), 10·d²/R (length) and 10·d·c²/R (area) for an edge taken as one parabola (d its midpoint's offset
-  /// from its chord c, R the target's equatorial radius: the parabola misses the image's cubic term, which scales
-  /// as d·c/R; an estimate, tested), or 3d²/c and d·c per piece the fallback densifier accepted (the whole bulge).
+  /// Bound on D: G's round-off and projection terms, plus per edge: for an edge integrated by quadrature, the
+  /// quadrature's bound (its coefficients beyond the accepted order extrapolated from the decay seen, their effect
+  /// summed exactly, times 10; plus the nodes' noise and round-off: lib/edge_quadrature.hpp); for an edge taken as
+  /// one parabola (d its midpoint's offset from its chord c, R the target's equatorial radius, q = c/R), the
+  /// terms its three points cannot see: the cubic b₃ ≤ max(0.15·d·q, 1e-2·c·q²) (an image that changes its bend
+  /// at the middle has d ≈ 0 but b₃ of that size), 4 · 25.6·b₃²/c in length, and the quartic b₄ ≤ max(0.09·q²·
+  /// max(d/2, 2e-2·c·q²), 0.3·q·b₃), 4 · (32/15)·c·b₄ in twice the area (estimates from measured decay rates,
+  /// tested at densify tolerances of 1 mm to 10 m), the midpoint's own offset along the chord, and the projected
+  /// midpoint's accuracy (as G's); or 3d²/c and d·c per piece the fallback densifier accepted (the whole bulge).
   double densified_grid_bound = 0;
   double error_bound = 0;        ///< bound on G − R: grid_bound + reference_bound + the datum term (as from_datum)
   double from_edges_bound = 0;   ///< bound on G − D: grid_bound + densified_grid_bound

@@ -130,6 +130,9 @@ class ResultGeoJsonWriter {
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
   /// Numbers in full, as ResultCsvWriter::with_all_digits() (default: each figure rounded to its bound).
   void with_all_digits(bool on) noexcept { all_digits_ = on; }
+  /// Adds the 14 bound properties (Budget::*_bound, named as result_columns()'s `bounds`; null where a bound does
+  /// not apply or cannot be given), after every other audit property, as ResultCsvWriter::with_bounds().
+  void with_bounds(bool on) noexcept { bounds_ = on; }
   /// One audited feature.
   void write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
                      std::string_view input_properties_json = {});
@@ -150,6 +153,7 @@ class ResultGeoJsonWriter {
   std::ostream* out_;
   bool combined_factor_ = false;
   bool all_digits_ = false;
+  bool bounds_ = false;
   bool first_ = true;
   bool finished_ = false;
 };

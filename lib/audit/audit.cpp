@@ -291,13 +291,14 @@ double moved_area_bound(double sigma, double perimeter, std::size_t vertices) {
   return sigma * perimeter + std::max(3.141592653589793, double(vertices)) * sigma * sigma;
 }
 
-/// The projection's own numerical accuracy assumed for a vertex, in the target's unit: 1 nm, or 4 ulp of the
+/// The projection's own numerical accuracy assumed for a vertex, in the target's unit: 10 nm, or 4 ulp of the
 /// largest coordinate of the path (PROJ's transverse Mercator is accurate to a few nm, Karney 2011 J. Geodesy
-/// 85:475; the same assumed for every projection).
+/// 85:475; PROJ's output jitters from point to point by up to about 5 nm, measured by fourth differences in
+/// tests/bounds_test.cpp; the same assumed for every projection).
 double projection_accuracy_units(const std::vector<Coord>& xy, double unit_m) {
   double largest = 0;
   for (const Coord& c : xy) largest = std::max({largest, std::fabs(c.x), std::fabs(c.y)});
-  return std::max(1e-9 / unit_m, 8 * kUnitRoundoff * largest);
+  return std::max(1e-8 / unit_m, 8 * kUnitRoundoff * largest);
 }
 
 double planar_length(const std::vector<Coord>& xy, bool closed) {
@@ -404,6 +405,7 @@ class StraightWalker {
     const std::size_t n = c_xy.size();
     const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
     RingSum sum_s, sum_p;
+    Bounds bound_s, bound_p;
     on_source = EllipsoidWalk{};
     on_target = EllipsoidWalk{};
     on_source.resize(edges);
@@ -435,9 +437,10 @@ class StraightWalker {
           chord(*target_, mp, piece.p[1], b_p);
         }
         if (deviation <= tolerance_m_) {
-          accept(sum_s, piece.s[0], ms, piece.s[1], a_s, b_s, piece.chord_s, whole_s);
+          accept(sum_s, bound_s, *source_.geod, piece.s[0], ms, piece.s[1], a_s, b_s, piece.chord_s, whole_s);
           if (target_) {
-            accept(sum_p, piece.p[0], mp, piece.p[1], a_p, b_p, piece.chord_p, target_->geod->EllipsoidArea());
+            accept(sum_p, bound_p, *target_->geod, piece.p[0], mp, piece.p[1], a_p, b_p, piece.chord_p,
+                   target_->geod->EllipsoidArea());
           }
           continue;
         }
@@ -456,10 +459,17 @@ class StraightWalker {
     }
     on_source.length_m = sum_s.length();
     if (closed && edges > 0) on_source.signed_area_m2 = sum_s.signed_area(source_.geod->EllipsoidArea());
+    // The pieces' bounds plus the double-double sums' round-off (as walk_on_ellipsoid()).
+    on_source.length_bound_m = bound_s.length_m.value() + 4 * kUnitRoundoff * on_source.length_m;
+    on_source.area_bound_m2 =
+        closed ? bound_s.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_source.signed_area_m2) : 0.0;
     if (target_) {
       on_target.length_m = sum_p.length();
       if (closed && edges > 0) on_target.signed_area_m2 = sum_p.signed_area(target_->geod->EllipsoidArea());
       on_target.edge_param = on_source.edge_param;
+      on_target.length_bound_m = bound_p.length_m.value() + 4 * kUnitRoundoff * on_target.length_m;
+      on_target.area_bound_m2 =
+          closed ? bound_p.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_target.signed_area_m2) : 0.0;
     } else {
       on_target = on_source;
     }
@@ -489,12 +499,39 @@ class StraightWalker {
                           GeographicLib::Geodesic::DISTANCE | GeographicLib::Geodesic::AREA, out.length, azi1,
                           azi2, m12, mm12, mm21, out.area);
   }
-  static void accept(RingSum& sum, const Coord& a, const Coord& m, const Coord& b, const Chord& am,
-                     const Chord& mb, const Chord& ab, double whole) {
+  /// Sums of the accepted pieces' bounds on one ellipsoid (m, m²).
+  struct Bounds {
+    CompensatedSum length_m, area_m2;
+  };
+
+  static void accept(RingSum& sum, Bounds& bound, const GeographicLib::Geodesic& geod, const Coord& a,
+                     const Coord& m, const Coord& b, const Chord& am, const Chord& mb, const Chord& ab,
+                     double whole) {
+    const double triangle = std::remainder(am.area + mb.area - ab.area, whole);
     sum.add(am.length, am.area, a.x, m.x);
     sum.add(mb.length, mb.area, m.x, b.x);
-    sum.add_area(std::remainder(am.area + mb.area - ab.area, whole) / 3);
+    sum.add_area(triangle / 3);
     sum.add_length((am.length + mb.length - ab.length) / 3);
+    // The piece's error. The curve between the chord's ends is taken as a parabola through its midpoint: as for
+    // a parabola edge of D (PathDensifier), the terms the three points cannot see, from the decay rates measured
+    // for projected images (the same analytic structure: a line of C's plane taken through PROJ), with a factor
+    // 4: the cubic b₃ ≤ max(0.15·d·q, 1e-2·s·q²) costs 25.6·b₃²/s in length, the quartic b₄ ≤ max(0.09·q²·
+    // max(d/2, 2e-2·s·q²), 0.3·q·b₃) costs (32/15)·s·b₄ in area (s the chord, d = 2T/s its midpoint's offset,
+    // q = s/a); the midpoint's offset ε along the chord costs (8/3)·d·ε²/s in area, (32/3)·d²ε²/s³ in length; the
+    // midpoint's own accuracy from PROJ (10 nm, as the projection's) (2/3)·s·10 nm and (8d/s)·10 nm. Then
+    // GeographicLib's stated accuracy (15 nm, 0.1 m² per inverse: walk_on_ellipsoid()) for the three inverses,
+    // with weights 4/3, 4/3, 1/3.
+    const double s = ab.length;
+    const double d = s > 0 ? 2 * std::fabs(triangle) / s : 0;
+    const double q = s / geod.EquatorialRadius(), rho = 0.3 * q;
+    const double b3 = std::max(0.5 * d * rho, 1e-2 * s * q * q);
+    const double b4 = std::max(std::max(0.5 * d, 2e-2 * s * q * q) * rho * rho, b3 * rho);
+    const double along = 0.5 * std::fabs(am.length - mb.length);
+    const double off2 = s > 0 ? along * along / s : 0;
+    constexpr double kPoint = 1e-8;
+    bound.length_m.add(4 * 25.6 * b3 * b3 / std::max(s, 1e-300) + 4 * (32.0 / 3.0) * d * d * off2 / std::max(s * s, 1e-300) +
+                       (s > 0 ? 8 * d / s * kPoint : 2 * kPoint) + 3 * 15e-9);
+    bound.area_m2.add(4 * (32.0 / 15.0) * s * b4 + 4 * (8.0 / 3.0) * d * off2 + (2.0 / 3.0) * s * kPoint + 3 * 0.1);
   }
   static void start_azimuth(const Side& side, const Coord& a, const Coord& toward, EllipsoidWalk& w,
                             std::size_t e) {
@@ -529,9 +566,10 @@ class PathDensifier {
   /// geographic CRS; NaN where it cannot be computed.
   using Curve = std::function<Coord(double s)>;
 
-  PathDensifier(PJ* op, double tolerance_units, double radius_units, const WorkPath& path, std::size_t path_index,
-                std::vector<Coord>& samples, std::size_t& densified)
-      : op_(op), tolerance_(tolerance_units), radius_(radius_units), path_(path), path_index_(path_index),
+  PathDensifier(PJ* op, double tolerance_units, double radius_units, double noise_units, const WorkPath& path,
+                std::size_t path_index, std::vector<Coord>& samples, std::size_t& densified)
+      : op_(op), tolerance_(tolerance_units), radius_(radius_units), noise_(noise_units), path_(path),
+        path_index_(path_index),
         samples_(samples), densified_(densified), origin_(path.xy.front()) {}
 
   /// Densifies edge e → j, the curve over parameters [0, length], whose point at length/2 is `mid_lonlat`,
@@ -565,28 +603,46 @@ class PathDensifier {
       const double c = chord(p0, p1);
       const detail::EdgeQuadrature::Result q =
           quadrature_.integrate(curve, edge_m, p0, pm, p1, op_, radius_, kQuadratureShare * tolerance_,
-                                kQuadratureShare * tolerance_ * c, samples_);
+                                kQuadratureShare * tolerance_ * c, noise_, samples_);
       densified_ += q.points;
       if (q.accepted) {
         length_.add(q.length);
-        length_error_.add(q.length_error);
+        length_error_.add(q.length_bound);
         ++quadrature_edges_;
         order_sum_ += q.order;
         if (path_.closed()) {
           area2_.add(cross(p0.x - origin_.x, p0.y - origin_.y, p1.x - origin_.x, p1.y - origin_.y));
           area2_.add(q.bulge2);
-          area_error_.add(q.area_error);
+          area_error_.add(q.area_bound);
         }
         return {};
       }
     }
     if (const double d = deviation(p0, pm, p1); d <= tolerance_) {
-      // One parabola: it misses the image's cubic term, which scales as d·c/R (an estimate with a factor 10 of
-      // margin, tested in tests/bounds_test.cpp).
+      // One parabola through the ends and the midpoint. It misses the image's cubic term b₃ (Chebyshev, in the
+      // edge's parameter), which the midpoint cannot see: an image that changes its bend at the middle (a geodesic
+      // crossing a transverse Mercator's central meridian) has d ≈ 0 but b₃ up to about 1e-2·c·(c/R)² (measured,
+      // EdgeQuadrature::predicted_order), and b₃ costs 25.6·b₃²/c in length (∫ Y'² dt / c of b₃(T₃ − T₁), the part
+      // no parabola through t = −1, 0, 1 holds); and the quartic b₄ ≈ max(b₂·ρ², b₃·ρ) (b₂ = max(d/2,
+      // 2e-2·c·(c/R)²), ρ = 0.3·c/R, as predicted_order), which Simpson's rule misses by 32/15 in ∫ Y dt (the
+      // parabola's bulge is Simpson's rule of ∫ Y dX, exact to the cubic). Each taken with a factor
+      // 4 of margin (tested in tests/bounds_test.cpp at densify tolerances of 1 cm to 10 m).
       accept(p0, pm, p1);
       const double c = chord(p0, p1);
-      bound_length_.add(kParabolaMargin * d * d / radius_);
-      if (path_.closed()) bound_area2_.add(2 * kParabolaMargin * d * c * c / radius_);
+      const double q = c / radius_, rho = detail::EdgeQuadrature::kRate * q;
+      const double b3 = std::max(0.5 * d * rho, 1e-2 * c * q * q);
+      const double b4 = std::max(std::max(0.5 * d, 2e-2 * c * q * q) * rho * rho, b3 * rho);
+      // And the midpoint sits ε off the chord's middle along it (the scale varies along the edge): a curve whose
+      // apex is at the chord's middle then passes the midpoint lower by d·4ε²/c², which the parabola's bulge
+      // (2/3)·c·d misses by (8/3)·d·ε²/c (twice that in twice the area), its length by (32/3)·d²ε²/c³.
+      const double cx = p1.x - p0.x, cy = p1.y - p0.y;
+      const double eps = c > 0 ? std::fabs((pm.x - 0.5 * (p0.x + p1.x)) * cx + (pm.y - 0.5 * (p0.y + p1.y)) * cy) / c : 0;
+      const double off2 = c > 0 ? eps * eps / c : 0;
+      bound_length_.add(4 * 25.6 * b3 * b3 / std::max(c, 1e-300) + 4 * (32.0 / 3.0) * d * d * off2 / std::max(c * c, 1e-300) +
+                        midpoint_length_term(d, c));
+      if (path_.closed()) {
+        bound_area2_.add(4 * (32.0 / 15.0) * c * b4 + 4 * 2 * (8.0 / 3.0) * d * off2 + midpoint_area2_term(c));
+      }
       return {};
     }
     stack_.assign(1, Piece{0.0, edge_m, p0, p1, pm});
@@ -637,11 +693,11 @@ class PathDensifier {
 
   double length_units() const { return length_.value(); }
   double area2_units() const { return area2_.value(); }
-  /// Sums of the quadrature's error estimates (edge_quadrature.hpp) over the edges it measured.
+  /// Sums of the quadrature's bounds (edge_quadrature.hpp) over the edges it measured.
   double quadrature_length_error_units() const { return length_error_.value(); }
   double quadrature_area_error_units2() const { return area_error_.value(); }
-  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's estimates,
-  /// the parabola edges' estimate, the fallback pieces' whole bulges; length in the unit, area as twice the area.
+  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's bounds,
+  /// the parabola edges' terms, the fallback pieces' whole bulges; length in the unit, area as twice the area.
   double method_length_bound_units() const { return length_error_.value() + bound_length_.value(); }
   double method_area2_bound_units2() const { return 2 * area_error_.value() + bound_area2_.value(); }
   std::size_t quadrature_edges() const { return quadrature_edges_; }
@@ -686,9 +742,18 @@ class PathDensifier {
     accept(p0, pm, p1);
     const double c = chord(p0, p1);
     const double d = deviation(p0, pm, p1);
-    bound_length_.add(c > 0 ? 3 * d * d / c : 2 * d);
-    if (path_.closed()) bound_area2_.add(2 * d * c);
+    bound_length_.add((c > 0 ? 3 * d * d / c : 2 * d) + midpoint_length_term(d, c));
+    if (path_.closed()) bound_area2_.add(2 * d * c + midpoint_area2_term(c));
   }
+
+  /// The projected midpoint is off by at most the projection's accuracy ε (the vertices' share is in G's bound):
+  /// the parabola's bulge (4/3 of the triangle) moves by (4/3)·c·ε in twice the area, and its length
+  /// (4(c₁ + c₂) − c)/3 by (4/3)|u₁ − u₂|·ε to first order, u₁, u₂ the half-chords' directions, which differ by
+  /// about 4d/c (d the midpoint's offset): taken as (8d/c + 4ε/c)·ε.
+  double midpoint_length_term(double d, double c) const {
+    return c > 0 ? (8 * d / c + 4 * noise_ / c) * noise_ : 2 * noise_;
+  }
+  double midpoint_area2_term(double c) const { return 4.0 / 3.0 * c * noise_; }
 
   void accept(const Coord& p0, const Coord& pm, const Coord& p1) {
     const double c = chord(p0, p1);
@@ -705,6 +770,7 @@ class PathDensifier {
   PJ* op_;
   double tolerance_;
   double radius_;  // the Earth's radius (target ellipsoid's a) in the target's unit, for the quadrature's order
+  double noise_;   // the projection's accuracy per point in the target's unit (G's assumption), for the quadrature
   const WorkPath& path_;
   std::size_t path_index_;
   std::vector<Coord>& samples_;
@@ -719,7 +785,6 @@ class PathDensifier {
   static constexpr double kQuadratureShare = 1e-2;
   detail::EdgeQuadrature quadrature_;
   CompensatedSum length_error_, area_error_;
-  static constexpr double kParabolaMargin = 10;
   CompensatedSum bound_length_, bound_area2_;
   std::size_t quadrature_edges_ = 0;
   long order_sum_ = 0;
@@ -1522,8 +1587,6 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
         r.message = why;
         return r;
       }
-      // The straight-edge truth is a refinement to the densify tolerance: no bound yet.
-      walk_s[i].length_bound_m = walk_s[i].area_bound_m2 = on_target.length_bound_m = on_target.area_bound_m2 = kNaN;
       if (separate_target) walk_p_own[i] = std::move(on_target);
     }
     for (const Coord& c : path.lonlat_s) lat_sum.add(c.y), ++lat_count;
@@ -1641,8 +1704,8 @@ AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {
     g_length_bound += path_g_length_bound;
     g_area2_bound += path_g_area2_bound;
     samples.insert(samples.end(), path.lonlat_p.begin(), path.lonlat_p.end());
-    PathDensifier densifier(op_fast.get(), tolerance_units, target.ellipsoid.a_m / unit_m, path, i, samples,
-                            densified);
+    PathDensifier densifier(op_fast.get(), tolerance_units, target.ellipsoid.a_m / unit_m, eps_xy, path, i,
+                            samples, densified);
     const std::size_t edge_count = path.edge_count();
     // The true edge e as a curve over [0, edge_param[e]]; a geodesic line is only set up when it is followed.
     std::optional<GeographicLib::GeodesicLine> geodesic;

@@ -12,15 +12,27 @@ namespace gridtruth::detail {
 namespace {
 
 constexpr double kPi = 3.14159265358979323846;
+constexpr double kUnitRoundoff = 0x1p-53;
+
+/// γ_k = k u / (1 − k u) (Higham 2002, lemma 3.1).
+constexpr double gamma(int k) { return k * kUnitRoundoff / (1 - k * kUnitRoundoff); }
+
+/// ∫_{−1}^{1} T_k(t) dt: 0 for odd k, −2/(k² − 1) for even k (Trefethen 2013, ch. 19).
+double chebyshev_integral(int k) { return k % 2 ? 0.0 : -2.0 / (double(k) * k - 1); }
 
 /// The interpolation and quadrature tables of one order n: n-point Gauss–Legendre nodes g_i and weights w_i on
-/// [−1, 1], and the matrices taking the n + 1 Lobatto values f_j = f(cos(jπ/n)) to the interpolant's value and
-/// derivative at g_i, for the full interpolant (degree n) and for it truncated to degree n − 1.
+/// [−1, 1]; the matrices taking the n + 1 Lobatto values f_j = f(cos(jπ/n)) to the interpolant's value and
+/// derivative at g_i; the map from the same values to the interpolant's Chebyshev coefficients c_k; T_n, T'_n at
+/// g_i, so that the interpolant truncated to degree n − 1 is the full one less its top term.
 struct Rule {
   int n = 0;
-  std::vector<double> weight;                        // w_i
-  std::vector<double> value, slope;                  // [i * (n + 1) + j]
-  std::vector<double> value_low, slope_low;          // truncated to degree n − 1
+  std::vector<double> weight;           // w_i
+  std::vector<double> value, slope;     // [i * (n + 1) + j]
+  std::vector<double> coefficient;      // [k * (n + 1) + j]
+  std::vector<double> top_t, top_dt;    // T_n(g_i), T'_n(g_i)
+  std::vector<double> value_sum, slope_sum;  // Σ_j |value_ij|, Σ_j |slope_ij| (for round-off bounds)
+  double lebesgue = 0;                  // Lebesgue constant of the Lobatto nodes, Σ_j |ℓ_j(x)| at its largest
+  std::vector<double> aliased;          // ∫ (T_k − T_{2n−k}) T_j at [(k − n − 1) * n + j], n < k ≤ 2n, j < n
 
   explicit Rule(int order) : n(order) {
     // Gauss–Legendre nodes by Newton's method on P_n from Tricomi's initial guesses (common practice; Golub and
@@ -50,10 +62,22 @@ struct Rule {
     const int m = n + 1;
     std::vector<double> cosines(2 * n);  // cos(iπ/n): cos(jkπ/n) = cosines[jk mod 2n]
     for (int i = 0; i < 2 * n; ++i) cosines[i] = std::cos(kPi * i / n);
+    auto coef = [&](int j, int k) {
+      double c = (2.0 / n) * cosines[(j * k) % (2 * n)];
+      if (j == 0 || j == n) c *= 0.5;
+      if (k == 0 || k == n) c *= 0.5;
+      return c;
+    };
+    coefficient.assign(m * m, 0.0);
+    for (int k = 0; k <= n; ++k) {
+      for (int j = 0; j < m; ++j) coefficient[k * m + j] = coef(j, k);
+    }
     value.assign(n * m, 0.0);
     slope.assign(n * m, 0.0);
-    value_low.assign(n * m, 0.0);
-    slope_low.assign(n * m, 0.0);
+    top_t.assign(n, 0.0);
+    top_dt.assign(n, 0.0);
+    value_sum.assign(n, 0.0);
+    slope_sum.assign(n, 0.0);
     for (int i = 0; i < n; ++i) {
       const double x = node[i];
       std::vector<double> t(m), dt(m);  // T_k(x), T'_k(x)
@@ -69,24 +93,35 @@ struct Rule {
           u = next;
         }
       }
+      top_t[i] = t[n];
+      top_dt[i] = dt[n];
+      double lebesgue_here = 0;
       for (int j = 0; j < m; ++j) {
-        double v = 0, d = 0, vl = 0, dl = 0;
+        double v = 0, d = 0;
         for (int k = 0; k < m; ++k) {
-          double c = (2.0 / n) * cosines[(j * k) % (2 * n)];
-          if (j == 0 || j == n) c *= 0.5;
-          if (k == 0 || k == n) c *= 0.5;
+          const double c = coef(j, k);
           v += c * t[k];
           d += c * dt[k];
-          if (k <= n - 1) {
-            vl += c * t[k];
-            dl += c * dt[k];
-          }
         }
         value[i * m + j] = v;
         slope[i * m + j] = d;
-        value_low[i * m + j] = vl;
-        slope_low[i * m + j] = dl;
-
+        lebesgue_here += std::fabs(v);
+        slope_sum[i] += std::fabs(d);
+      }
+      value_sum[i] = lebesgue_here;
+      lebesgue = std::max(lebesgue, lebesgue_here);
+    }
+    // The Lobatto interpolant's Lebesgue constant is at most (2/π) ln(n) + 1 (Trefethen 2013, thm. 15.2); the
+    // Gauss nodes sample it, the bound covers the rest.
+    lebesgue = std::max(lebesgue, 2 / kPi * std::log(double(n)) + 1);
+    // T_k T_j = (T_{k+j} + T_{|k−j|})/2 (Mason and Handscomb 2003, eq. 2.38).
+    aliased.assign(n * n, 0.0);
+    for (int k = n + 1; k <= 2 * n; ++k) {
+      const int alias = 2 * n - k;
+      for (int j = 0; j < n; ++j) {
+        const double jk = 0.5 * (chebyshev_integral(k + j) + chebyshev_integral(std::abs(k - j)));
+        const double ja = 0.5 * (chebyshev_integral(alias + j) + chebyshev_integral(std::abs(alias - j)));
+        aliased[(k - n - 1) * n + j] = jk - ja;
       }
     }
   }
@@ -102,13 +137,21 @@ const Rule& rule_of(int n) {
   return *rules[k];
 }
 
+/// What integrals() gives: the length and twice the bulge of the order-n interpolant and of it truncated to degree
+/// n − 1; its Chebyshev coefficients along (a_k) and across (b_k) the chord; what the bounds need.
 struct Integrals {
   double length = 0, bulge2 = 0, length_low = 0, bulge2_low = 0;
+  std::array<double, EdgeQuadrature::kMaxOrder + 1> along{}, across{};  // a_k, b_k, k = 0..n
+  double chord = 0;
+  double length_magnitude = 0;      // ∫ |X'| + |Y'|
+  double coordinate_magnitude = 0;  // largest |coordinate| of a node (plane, not chord frame)
+  double turning = 0;       // variation of the tangent's slope across the chord over the Gauss nodes, from the chord
+  double length_roundoff = 0, bulge2_roundoff = 0;  // bounds on the arithmetic's round-off (the nodes as given)
 };
 
 /// The integrals of the order-n interpolant through xy (relative to xy[0]) and of its truncation.
 Integrals integrals(const Rule& r, const std::vector<Coord>& xy) {
-  const int m = r.n + 1;
+  const int n = r.n, m = n + 1;
   // In the frame of the chord (u along it from P0, v across): the cross products are then of the size of the
   // bulge, not of the chord squared, and keep their precision.
   const Coord o = xy.front();
@@ -116,37 +159,212 @@ Integrals integrals(const Rule& r, const std::vector<Coord>& xy) {
   const double c = std::hypot(cx, cy);
   const double ux = c > 0 ? cx / c : 1, uy = c > 0 ? cy / c : 0;
   Integrals out;
-  for (int i = 0; i < r.n; ++i) {
+  out.chord = c;
+  std::array<double, EdgeQuadrature::kMaxOrder + 1> px{}, py{};
+  out.coordinate_magnitude = std::max(std::fabs(o.x), std::fabs(o.y));
+  double big_x = 0, big_y = 0;  // max |px|, |py|
+  for (int j = 1; j < m; ++j) {  // X_0 = Y_0 = 0
+    const double dxj = xy[j].x - o.x, dyj = xy[j].y - o.y;
+    px[j] = dxj * ux + dyj * uy;
+    py[j] = dyj * ux - dxj * uy;
+    out.coordinate_magnitude = std::max({out.coordinate_magnitude, std::fabs(xy[j].x), std::fabs(xy[j].y)});
+    big_x = std::max(big_x, std::fabs(px[j]));
+    big_y = std::max(big_y, std::fabs(py[j]));
+  }
+  for (int k = 0; k <= n; ++k) {
+    const double* row = &r.coefficient[k * m];
+    double a = 0, b = 0;
+    for (int j = 1; j < m; ++j) a += row[j] * px[j], b += row[j] * py[j];
+    out.along[k] = a;
+    out.across[k] = b;
+  }
+  const double top_a = out.along[n], top_b = out.across[n];
+  double slope_prev = 0, length_sum_magnitude = 0, bulge2_sum_magnitude = 0;
+  for (int i = 0; i < n; ++i) {
     const double* v = &r.value[i * m];
     const double* d = &r.slope[i * m];
-    const double* vl = &r.value_low[i * m];
-    const double* dl = &r.slope_low[i * m];
-
-    double x = 0, y = 0, dx = 0, dy = 0, xl = 0, yl = 0, dxl = 0, dyl = 0;
-    for (int j = 1; j < m; ++j) {  // X_0 = Y_0 = 0
-      const double dxj = xy[j].x - o.x, dyj = xy[j].y - o.y;
-      const double px = dxj * ux + dyj * uy, py = dyj * ux - dxj * uy;
-      x += v[j] * px;
-      y += v[j] * py;
-      dx += d[j] * px;
-      dy += d[j] * py;
-      xl += vl[j] * px;
-      yl += vl[j] * py;
-      dxl += dl[j] * px;
-      dyl += dl[j] * py;
+    double x = 0, y = 0, dx = 0, dy = 0;
+    for (int j = 1; j < m; ++j) {
+      x += v[j] * px[j];
+      y += v[j] * py[j];
+      dx += d[j] * px[j];
+      dy += d[j] * py[j];
     }
     const double w = r.weight[i];
-    out.length += w * std::sqrt(dx * dx + dy * dy);  // no overflow at plane coordinates
-    out.length_low += w * std::sqrt(dxl * dxl + dyl * dyl);
+    const double speed = std::sqrt(dx * dx + dy * dy);  // no overflow at plane coordinates
+    out.length += w * speed;
     // t runs from +1 (P0) to −1 (P1): the integral from P0 to P1 is minus the one over [−1, 1].
     out.bulge2 -= w * (x * dy - y * dx);
-    out.bulge2_low -= w * (xl * dyl - yl * dxl);
-
+    out.length_magnitude += w * (std::fabs(dx) + std::fabs(dy));
+    length_sum_magnitude += w * speed;
+    bulge2_sum_magnitude += w * (std::fabs(x * dy) + std::fabs(y * dx));
+    // Round-off of the node's sums (Higham 2002, eq. 3.5: |fl(Σ a_j b_j) − Σ a_j b_j| ≤ γ_m Σ |a_j b_j|), carried
+    // through the square root and the cross product to first order.
+    const double ex = gamma(m) * r.value_sum[i] * big_x, ey = gamma(m) * r.value_sum[i] * big_y;
+    const double edx = gamma(m) * r.slope_sum[i] * big_x, edy = gamma(m) * r.slope_sum[i] * big_y;
+    out.length_roundoff += w * (edx + edy);
+    out.bulge2_roundoff += w * (std::fabs(x) * edy + std::fabs(dy) * ex + std::fabs(y) * edx + std::fabs(dx) * ey);
+    const double slope_here = dx != 0 ? dy / dx : 0;
+    out.turning += std::fabs(slope_here - slope_prev);
+    slope_prev = slope_here;
+    // Truncated to degree n − 1: the acceptance test's change.
+    const double tn = r.top_t[i], dtn = r.top_dt[i];
+    x -= top_a * tn;
+    y -= top_b * tn;
+    dx -= top_a * dtn;
+    dy -= top_b * dtn;
+    out.length_low += w * std::sqrt(dx * dx + dy * dy);
+    out.bulge2_low -= w * (x * dy - y * dx);
   }
+  out.turning += std::fabs(slope_prev);  // the first and last slopes count from the chord's direction
+  // The Gauss sums: n terms, each with a relative error of a few u.
+  out.length_roundoff += gamma(n + 3) * length_sum_magnitude;
+  out.bulge2_roundoff += gamma(n + 3) * bulge2_sum_magnitude;
   return out;
 }
 
+using Coefficients = std::array<double, EdgeQuadrature::kMaxOrder + 1>;
+
+/// The rate ρ² per two degrees at which one family of the image's Chebyshev coefficients (one component, even or
+/// odd degrees, from degree 2 or 3: degrees 0 and 1 hold the chord itself) decays: the mean rate of its upper
+/// envelope (e_k = max_{j ≥ k} |c_j| over the family) from its lowest degree to its highest k ≤ n; 0 for a family
+/// of one coefficient (odd degrees at n = 4), which is extrapolated at the others' rate.
+double family_rate2(const Coefficients& c, int n, int parity) {
+  const int top = (n % 2 == parity) ? n : n - 1;
+  const int bottom = parity == 0 ? 2 : 3;
+  const double high = std::fabs(c[top]);
+  if (high == 0) return 0;
+  if (top - bottom < 2) return 0;  // one coefficient: no rate of its own
+  double envelope = 0;
+  for (int k = top; k >= bottom; k -= 2) envelope = std::max(envelope, std::fabs(c[k]));
+  const double ratio = high / envelope;  // over top − bottom degrees: ρ² is its 2/(top − bottom)-th power
+  if (top - bottom == 2) return ratio;
+  if (top - bottom == 4) return std::sqrt(ratio);
+  return std::pow(ratio, 2.0 / (top - bottom));
+}
+
+/// The Chebyshev coefficients of the derivative of Σ_{k≤n} c_k T_k (degree n − 1): d_{k−1} = d_{k+1} + 2k c_k,
+/// d_0 halved (Mason and Handscomb 2003, eq. 2.49).
+Coefficients derivative(const Coefficients& c, int n) {
+  Coefficients d{};
+  double next = 0, next2 = 0;  // d_{k+1}, d_{k+2}
+  for (int k = n; k >= 1; --k) {
+    const double here = next2 + 2.0 * k * c[k];  // d_{k−1}
+    next2 = next;
+    next = here;
+    d[k - 1] = here;
+  }
+  d[0] *= 0.5;
+  return d;
+}
+
+/// |∫ (T_k − T_{2n−k}) f| for f = Σ_{j<n} f_j T_j (n < k ≤ 2n), from the rule's table.
+double aliased_moment(const Rule& r, int k, const Coefficients& f) {
+  const double* row = &r.aliased[(k - r.n - 1) * r.n];
+  double sum = 0;
+  for (int j = 0; j < r.n; ++j) sum += f[j] * row[j];
+  return std::fabs(sum);
+}
+
+double abs_sum(const Coefficients& c, int n) {
+  double s = 0;
+  for (int k = 0; k <= n; ++k) s += std::fabs(c[k]);
+  return s;
+}
+
 bool finite(const Coord& c) noexcept { return std::isfinite(c.x) && std::isfinite(c.y); }
+
+/// The bounds of the order tried last (see edge_quadrature.hpp, "Bounds").
+void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, const Rule& rule, double noise) {
+  using EQ = EdgeQuadrature;
+  const int n = rule.n;
+  const double lebesgue = rule.lebesgue;
+  // The coefficients beyond n, each family (along or across, even or odd) extrapolated from its top one at the
+  // largest rate ρ² per two degrees any family shows (the same function, so the same asymptotic rate: the largest
+  // guards against a family that happens to decay fast at low degrees), the top one taken as at least ρ² times
+  // the one two below it (in case it happens to be small). With no geometric decay seen (ρ² > 1/4: e.g.
+  // coefficients down to the nodes' noise) the rate is taken as 1/2 and the bound has no safety factor: it is
+  // then of the size of the last coefficients, as the acceptance test.
+  double seen = 0;
+  for (const Coefficients* c : {&q.along, &q.across}) {
+    for (int parity = 0; parity < 2; ++parity) seen = std::max(seen, family_rate2(*c, n, parity));
+  }
+  res.decay_rate2 = seen;
+  const bool converging = seen <= EQ::kMaxRate2;
+  const double r2 = converging ? seen : 0.5;
+  const double safety = converging ? EQ::kSafety : 1.0;
+  double top[2][2];  // [component][parity of the degree]
+  for (int component = 0; component < 2; ++component) {
+    const Coefficients& c = component == 0 ? q.along : q.across;
+    for (int parity = 0; parity < 2; ++parity) {
+      const int k = (n % 2 == parity) ? n : n - 1;
+      top[component][parity] = std::fabs(c[k]);
+      if (k - 2 >= 2) top[component][parity] = std::max(top[component][parity], r2 * std::fabs(c[k - 2]));
+    }
+  }
+  std::array<double, EdgeQuadrature::kMaxOrder + 3> power{};  // r2^i
+  power[0] = 1;
+  for (std::size_t i = 1; i < power.size(); ++i) power[i] = power[i - 1] * r2;
+  auto extrapolated = [&](int component, int k) {  // |c_k| for k > n
+    const int from = (n % 2 == k % 2) ? n : n - 1;
+    return top[component][k % 2] * power[(k - from) / 2];
+  };
+  const double tail_beyond = 1 / (1 - r2);  // Σ_{i≥0} r2^i, at the slowest family's rate
+  // The nodes as given are off by at most e (the projection's accuracy, and the rounding of the coordinates):
+  // to first order that moves the length by ∫ τ·η' = −∫ τ'·η ≤ turning · Λ e (η the interpolant of the nodes'
+  // errors, |η| ≤ Λ e; τ the unit tangent, whose total turning is taken as twice the slope's sampled variation)
+  // and twice the bulge by 2 ∫ (X' η_Y − Y' η_X) ≤ 2 Λ e ∫ (|X'| + |Y'|).
+  const double e = noise + 4 * kUnitRoundoff * q.coordinate_magnitude;
+  const double length_floor = q.length_roundoff + 2 * q.turning * lebesgue * e;
+  const double area_floor = 0.5 * q.bulge2_roundoff + lebesgue * e * q.length_magnitude;
+  // Chebyshev coefficients of X', Y', Y'' and X'' (degrees n − 1, n − 1, n − 2, n − 2).
+  const Coefficients dx = derivative(q.along, n), dy = derivative(q.across, n), ddy = derivative(dy, n - 1);
+  const Coefficients ddx = derivative(dx, n - 1);
+  const double c2 = 0.5 * q.chord;                       // |X'| if the parameter ran evenly along the chord
+  const double dx_max = abs_sum(dx, n - 1), dy_max = abs_sum(dy, n - 1), ddy_max = abs_sum(ddy, n - 2);
+  const double ddx_max = abs_sum(ddx, n - 2);
+  double stretch = std::fabs(dx[0] + c2);                 // max |X' + c/2| ≤ Σ |coefficients|
+  for (int k = 1; k < n; ++k) stretch += std::fabs(dx[k]);
+  // The interpolant's error δP = P − p = Σ_{k>n} c_k (T_k − T_{k'}), k' = 2n − k the degree c_k is aliased to on
+  // the Lobatto grid for n < k ≤ 2n (Trefethen 2013, ch. 4); |T_k − T_k'| ≤ 2, |T_k' − T_k''| ≤ 2 k².
+  // Area: bulge2/2 = ∫ Y X' dt, so it moves by ∫ δY X' + ∫ Y δX' = ∫ δY X' − ∫ Y' δX (δX = 0 at the ends), each
+  // an exact sum over k of c_k ∫ (T_k − T_k') f with f = X' or Y'.
+  // Length: L = ∫ |P'| moves by ∫ (X' δX' + Y' δY')/|P'| to first order; by parts, with g = Y'/|P'|, that is
+  // −∫ (X'/|P'|)' δX − ∫ g' δY, where (X'/|P'|)' = O(g g') and g' ≈ Y''/|X'|; plus the second order
+  // ∫ |δP'|² / |P'|. The Gauss rule is exact for the polynomial part of |p'| (degree 2n − 1), and what is not
+  // polynomial in it is of the order of the squared slope times ρ^{2n}, far below the rest.
+  double area = 0, length_y = 0, tail_a = 0, tail_b = 0, tail_dp = 0;
+  for (int k = n + 1; k <= 2 * n; ++k) {
+    const double ak = extrapolated(0, k), bk = extrapolated(1, k);
+    area += bk * aliased_moment(rule, k, dx) + ak * aliased_moment(rule, k, dy);
+    length_y += bk * aliased_moment(rule, k, ddy);
+    tail_a += ak;
+    tail_b += bk;
+    tail_dp += 2.0 * k * k * (ak + bk);
+  }
+  const double a_far = extrapolated(0, 2 * n + 1) + extrapolated(0, 2 * n + 2);
+  const double b_far = extrapolated(1, 2 * n + 1) + extrapolated(1, 2 * n + 2);
+  const double far = 2 * (2 * n + 4.0) * (2 * n + 4.0) * tail_beyond;  // Σ k² r2^i over the rest, generously
+  area += 4 * tail_beyond * (b_far * dx_max + a_far * dy_max);  // |∫ (T_k − T_k') f| ≤ 4 max |f|
+  length_y += 4 * tail_beyond * b_far * ddy_max;
+  tail_a += a_far * tail_beyond;
+  tail_b += b_far * tail_beyond;
+  tail_dp += (a_far + b_far) * far;
+  double length_estimate = std::numeric_limits<double>::infinity();
+  if (stretch < 0.5 * c2) {
+    // |P'| ≥ |X'| ≥ c/2 − stretch: g' = Y''/|X'| − Y' X''/X'² is taken at the even speed c/2, corrected by the
+    // ratio (c/2)/(c/2 − stretch) squared for the rest.
+    const double slow = c2 / (c2 - stretch);
+    const double g_max = dy_max / (c2 - stretch), dg_max = ddy_max / (c2 - stretch) + g_max * ddx_max / (c2 - stretch);
+    length_estimate = slow * slow * length_y / c2 + 2 * g_max * dg_max * 2 * tail_a +
+                      2 * tail_dp * tail_dp / (c2 - stretch);
+  } else {
+    // A parameter far from even along the chord: the coarser −∫ τ'·δP ≤ turning · max |δP|.
+    length_estimate = 2 * q.turning * 2 * (tail_a + tail_b) + (c2 > 0 ? 2 * tail_dp * tail_dp / c2 : tail_dp);
+  }
+  res.length_bound = safety * length_estimate + length_floor;
+  res.area_bound = safety * area + area_floor;
+}
 
 }  // namespace
 
@@ -170,7 +388,7 @@ int EdgeQuadrature::predicted_order(double chord, double sagitta, double radius,
 EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double length_param, const Coord& p0,
                                                  const Coord& pm, const Coord& p1, PJ* op,
                                                  double radius, double length_target, double area_target,
-                                                 std::vector<Coord>& samples) {
+                                                 double noise, std::vector<Coord>& samples) {
   Result res;
   const double cx = p1.x - p0.x, cy = p1.y - p0.y;
   const double chord = std::hypot(cx, cy);
@@ -203,16 +421,21 @@ EdgeQuadrature::Result EdgeQuadrature::integrate(const Curve& curve, double leng
       if (!finite(samples[at + k]) || !finite(fresh_[k])) return res;
       xy_[index_[k]] = fresh_[k];
     }
-    const Integrals q = integrals(rule_of(n), xy_);
+    const Rule& rule = rule_of(n);
+    const Integrals q = integrals(rule, xy_);
     res.length = q.length;
     res.bulge2 = q.bulge2;
-    res.length_error = std::fabs(q.length - q.length_low);
-    res.area_error = 0.5 * std::fabs(q.bulge2 - q.bulge2_low);
-    if (res.length_error <= length_target && res.area_error <= area_target) {
+    res.length_change = std::fabs(q.length - q.length_low);
+    res.area_change = 0.5 * std::fabs(q.bulge2 - q.bulge2_low);
+    if (res.length_change <= length_target && res.area_change <= area_target) {
       res.accepted = true;
+      set_bounds(res, q, rule, noise);
       return res;
     }
-    if (2 * n > kMaxOrder) return res;
+    if (2 * n > kMaxOrder) {
+      set_bounds(res, q, rule, noise);
+      return res;
+    }
     // Double the order: the old nodes are the even ones of the new.
     scratch_.assign(2 * n + 1, Coord{0, 0});
     for (int j = 0; j <= n; ++j) scratch_[2 * j] = xy_[j];

@@ -169,8 +169,8 @@ void ResultGeoJsonWriter::finish() {
 void ResultGeoJsonWriter::write_properties(std::string_view id, const std::string& csv_row,
                                            std::string_view input_properties_json, const char* geometry_note) {
   static const std::vector<std::string> text_columns = {"id", "geometry_type", "status", "message", "verdict"};
-  std::vector<std::string> names = ResultCsvWriter::columns();
-  if (combined_factor_) names.push_back("combined_factor");
+  std::vector<std::string> names;
+  for (const ResultColumn& c : result_columns(combined_factor_, bounds_)) names.emplace_back(c.name);
   const std::vector<std::string> fields = split_csv_record(csv_row);
   nlohmann::ordered_json props = nlohmann::ordered_json::object();
   if (!input_properties_json.empty()) {
@@ -210,6 +210,7 @@ void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geo
   std::ostringstream row;
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
+  csv.with_bounds(bounds_);
   csv.with_all_digits(all_digits_);
   csv.write_row(id, result);
   if (!transform_) {
@@ -231,6 +232,8 @@ void ResultGeoJsonWriter::write_unread(std::string_view id, std::string_view mes
   std::ostringstream row;
   ResultCsvWriter csv(row, "");
   csv.with_combined_factor(combined_factor_);
+  csv.with_bounds(bounds_);
+  csv.with_all_digits(all_digits_);
   csv.write_unread_row(id, message, type);
   write_properties(id, row.str(), input_properties_json);
   *out_ << "null}";

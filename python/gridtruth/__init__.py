@@ -24,10 +24,10 @@ __all__ = ["Auditor", "AuditResult", "Budget", "Distortion", "Error", "audit_fra
            "result_columns", "__version__"]
 
 
-def result_columns(combined_factor=False):
+def result_columns(combined_factor=False, bounds=False):
     """The names of the result columns, in order (``gridtruth audit``'s CSV header; ``combined_factor`` last when
-    asked for)."""
-    return [name for name, _ in _core.result_columns(combined_factor)]
+    asked for, then with ``bounds`` the 14 bound columns of ``--bounds``)."""
+    return [name for name, _ in _core.result_columns(combined_factor, bounds)]
 
 
 def _tolerance_text(tolerance):
@@ -77,7 +77,7 @@ class Auditor(_core.Auditor):
         """True when a height was given: the results then carry ``combined_factor``."""
         return self._kwargs["height_m"] is not None
 
-    def audit_many(self, geometries, heights=None, threads=None, ids=None, batch_features=256):
+    def audit_many(self, geometries, heights=None, threads=None, ids=None, batch_features=256, bounds=False):
         """Audits a sequence (list, numpy array, GeoSeries) of geometries on ``threads`` worker threads (None: every
         core), with the GIL released, each worker with a clone of this auditor.
 
@@ -88,11 +88,12 @@ class Auditor(_core.Auditor):
         or NaN make that feature invalid). ``ids``: the ``id`` column (default: the 1-based position as text).
 
         Returns a pandas DataFrame with the columns of result_columns(): one row per geometry, in order. Text cells
-        that do not apply are "", numbers NaN; ``vertices`` is a nullable integer. Every thread count gives the same
-        results, equal to the command's to the last bit.
+        that do not apply are "", numbers NaN; ``vertices`` is a nullable integer. With ``bounds`` the 14 bound
+        columns of ``gridtruth audit --bounds`` come last (how far each figure may be from its exact value; NaN where
+        none applies). Every thread count gives the same results, equal to the command's to the last bit.
         """
         return _audit_table(self, geometries, heights, ids, threads, batch_features,
-                            self.with_heights or heights is not None)
+                            self.with_heights or heights is not None, bounds)
 
 
 def _frame(table):
@@ -103,17 +104,17 @@ def _frame(table):
     return frame
 
 
-def _audit_table(core_auditor, geometries, heights, ids, threads, batch_features, combined_factor):
+def _audit_table(core_auditor, geometries, heights, ids, threads, batch_features, combined_factor, bounds=False):
     if heights is not None:
         heights = np.asarray(heights, dtype=float)
     return _frame(core_auditor._audit_table(geometries, heights, ids, 0 if threads is None else int(threads),
-                                            int(batch_features), bool(combined_factor)))
+                                            int(batch_features), bool(combined_factor), bool(bounds)))
 
 
-def empty_table(combined_factor=False):
+def empty_table(combined_factor=False, bounds=False):
     """An empty result DataFrame with the columns and dtypes audit_many() returns (Dask's ``meta``)."""
     columns = {}
-    for name, kind in _core.result_columns(combined_factor):
+    for name, kind in _core.result_columns(combined_factor, bounds):
         columns[name] = pd.Series([], dtype={"text": object, "count": "Int64", "number": float}[kind])
     return pd.DataFrame(columns)
 
@@ -135,15 +136,16 @@ def _source_of(frame, source_crs):
     return crs_definition(crs)
 
 
-def audit_frame(gdf, target_crs, source_crs=None, height_field=None, threads=None, join=True, **options):
+def audit_frame(gdf, target_crs, source_crs=None, height_field=None, threads=None, join=True, bounds=False,
+                **options):
     """Audits every geometry of a GeoPandas GeoDataFrame on the grid of ``target_crs``. The source CRS is
     ``gdf.crs`` (unless ``source_crs`` is given); ``height_field`` names a column of ellipsoidal heights in metres;
-    further options as Auditor's. The ``id`` column is the index as text. Returns ``gdf.join(results)`` (the
-    results alone, on gdf's index, with ``join=False``)."""
+    ``bounds`` adds the bound columns (as audit_many()); further options as Auditor's. The ``id`` column is the
+    index as text. Returns ``gdf.join(results)`` (the results alone, on gdf's index, with ``join=False``)."""
     auditor = Auditor(target_crs, source_crs=_source_of(gdf, source_crs), **options)
     heights = gdf[height_field].to_numpy(dtype=float) if height_field else None
     table = auditor.audit_many(gdf.geometry.values, heights=heights, threads=threads,
-                               ids=[str(i) for i in gdf.index])
+                               ids=[str(i) for i in gdf.index], bounds=bounds)
     table.index = gdf.index
     return gdf.join(table, rsuffix="_audit") if join else table
 

@@ -96,8 +96,8 @@ std::vector<RowKey> keys_of(const std::vector<InputFeature>& features) {
 /// The result table of features and their results: {column name: numpy float64 array or list of str}, the rows
 /// as ResultCsvWriter writes them (result_row(), unread_row()).
 py::dict result_table(const std::vector<RowKey>& features, const std::vector<AuditResult>& results,
-                      bool combined_factor) {
-  const auto& columns = result_columns(combined_factor);
+                      bool combined_factor, bool bounds) {
+  const auto& columns = result_columns(combined_factor, bounds);
   const std::size_t n = features.size();
   std::vector<py::list> texts(columns.size());
   std::vector<py::array_t<double>> numbers(columns.size());
@@ -111,8 +111,8 @@ py::dict result_table(const std::vector<RowKey>& features, const std::vector<Aud
   }
   for (std::size_t i = 0; i < n; ++i) {
     const RowKey& f = features[i];
-    ResultRow row = f.read ? result_row(f.id, results[i], combined_factor)
-                           : unread_row(f.id, results[i].message, f.declared_type, combined_factor);
+    ResultRow row = f.read ? result_row(f.id, results[i], combined_factor, bounds)
+                           : unread_row(f.id, results[i].message, f.declared_type, combined_factor, bounds);
     for (std::size_t k = 0; k < row.size; ++k) {
       if (data[k]) data[k][i] = row.cells[k].number;
       else texts[k][i] = py::str(row.cells[k].text.data(), row.cells[k].text.size());
@@ -212,7 +212,18 @@ PYBIND11_MODULE(_core, m) {
       .def_readonly("from_height", &Budget::from_height, "E_S − R: ellipsoid versus ground")
       .def_readonly("ellipsoid_source", &Budget::ellipsoid_source, "E_S")
       .def_readonly("ellipsoid_target", &Budget::ellipsoid_target, "E_P")
-      .def_readonly("densified_grid", &Budget::densified_grid, "D");
+      .def_readonly("densified_grid", &Budget::densified_grid, "D")
+      // Bounds on |computed − exact| of each figure (m or m²; NaN: none can be given; Budget's *_bound).
+      .def_readonly("reference_bound", &Budget::reference_bound, "bound on R")
+      .def_readonly("grid_bound", &Budget::grid_bound, "bound on G")
+      .def_readonly("error_bound", &Budget::error_bound, "bound on G − R (with the datum's stated accuracy)")
+      .def_readonly("from_edges_bound", &Budget::from_edges_bound, "bound on G − D")
+      .def_readonly("from_scale_bound", &Budget::from_scale_bound, "bound on D − E_P")
+      .def_readonly("from_datum_bound", &Budget::from_datum_bound, "bound on E_P − E_S")
+      .def_readonly("from_height_bound", &Budget::from_height_bound, "bound on E_S − R")
+      .def_readonly("ellipsoid_source_bound", &Budget::ellipsoid_source_bound, "bound on E_S")
+      .def_readonly("ellipsoid_target_bound", &Budget::ellipsoid_target_bound, "bound on E_P")
+      .def_readonly("densified_grid_bound", &Budget::densified_grid_bound, "bound on D");
 
   py::class_<Distortion>(m, "Distortion", "Distortion statistics over a feature")
       .def_readonly("scale_min", &Distortion::scale_min)
@@ -268,22 +279,22 @@ PYBIND11_MODULE(_core, m) {
       .def(
           "_audit_table",
           [](const Auditor& a, const py::iterable& geometries, const py::object& heights, const py::object& ids,
-             unsigned threads, std::size_t batch_features, bool combined_factor) {
+             unsigned threads, std::size_t batch_features, bool combined_factor, bool bounds) {
             const std::vector<InputFeature> features = features_of(geometries, heights, ids, threads);
             std::vector<AuditResult> results;
             {
               py::gil_scoped_release release;
               results = audit_features(features, a, RunOptions{threads, batch_features});
             }
-            return result_table(keys_of(features), results, combined_factor);
+            return result_table(keys_of(features), results, combined_factor, bounds);
           },
           py::arg("geometries"), py::arg("heights"), py::arg("ids"), py::arg("threads"),
-          py::arg("batch_features"), py::arg("combined_factor"))
+          py::arg("batch_features"), py::arg("combined_factor"), py::arg("bounds") = false)
       .def(
           "_audit_file",
           [](const Auditor& a, const std::string& path, const std::string& format, const std::string& id_field,
              const std::string& wkt_field, const std::string& height_field, unsigned threads,
-             std::size_t batch_features, bool combined_factor) {
+             std::size_t batch_features, bool combined_factor, bool bounds) {
             ReaderOptions ro;
             ro.format = parse_input_format(format);
             ro.id_field = id_field;
@@ -300,10 +311,10 @@ PYBIND11_MODULE(_core, m) {
                           results.push_back(r);
                         });
             }
-            return result_table(keys, results, combined_factor);
+            return result_table(keys, results, combined_factor, bounds);
           },
           py::arg("path"), py::arg("format"), py::arg("id_field"), py::arg("wkt_field"), py::arg("height_field"),
-          py::arg("threads"), py::arg("batch_features"), py::arg("combined_factor"),
+          py::arg("threads"), py::arg("batch_features"), py::arg("combined_factor"), py::arg("bounds") = false,
           "Audits a file with the library's readers and runner (as gridtruth audit does)")
       .def("clone", &Auditor::clone, "An independent auditor for another thread")
       .def("factors",
@@ -344,15 +355,16 @@ PYBIND11_MODULE(_core, m) {
         return d;
       });
 
-  m.def("result_columns", [](bool combined_factor) {
+  m.def("result_columns", [](bool combined_factor, bool bounds) {
     py::list out;
-    for (const ResultColumn& c : result_columns(combined_factor)) {
+    for (const ResultColumn& c : result_columns(combined_factor, bounds)) {
       out.append(py::make_tuple(std::string(c.name), c.kind == ColumnKind::text    ? "text"
                                                       : c.kind == ColumnKind::count ? "count"
                                                                                     : "number"));
     }
     return out;
-  }, py::arg("combined_factor") = false, "The result table's (name, kind) pairs: the CSV columns of gridtruth audit");
+  }, py::arg("combined_factor") = false, py::arg("bounds") = false,
+        "The result table's (name, kind) pairs: the CSV columns of gridtruth audit (with --bounds: `bounds`)");
 
   m.def("parse_wkb", [](py::bytes wkb) {
     const Geometry g = python::parse_wkb(std::string(wkb));

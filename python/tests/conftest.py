@@ -39,20 +39,20 @@ def cli_column(rows, name, kind):
     return np.array([float(r[name]) if r[name] != "" else math.nan for r in rows])
 
 
-def assert_table_equals_cli(table, rows, combined_factor=False):
+def assert_table_equals_cli(table, rows, combined_factor=False, bounds=False):
     """Every cell of `table` equals the command's CSV cell to the last bit (same columns, same order)."""
     import gridtruth
     from gridtruth import _core
     assert list(table.columns) == list(rows[0].keys())
     assert len(table) == len(rows)
-    for name, kind in _core.result_columns(combined_factor):
+    for name, kind in _core.result_columns(combined_factor, bounds):
         expected = cli_column(rows, name, kind)
         if kind == "text":
             assert list(table[name]) == expected, name
         else:
             got = table[name].astype(float).to_numpy()
             assert np.array_equal(got, expected, equal_nan=True), (name, got, expected)
-    assert gridtruth.result_columns(combined_factor) == list(rows[0].keys())
+    assert gridtruth.result_columns(combined_factor, bounds) == list(rows[0].keys())
 
 
 def demo_features():

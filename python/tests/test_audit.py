@@ -59,6 +59,38 @@ def test_heights_add_the_combined_factor_as_the_command(tmp_path):
     assert_table_equals_cli(table, rows, combined_factor=True)
 
 
+BOUND_FIELDS = ["reference", "grid", "error", "from_edges", "from_scale", "from_datum", "from_height"]
+
+
+def test_bounds_columns_equal_the_commands_and_the_budgets(auditor, tmp_path):
+    # bounds=True gives the 14 columns of `gridtruth audit --bounds`, after every other, equal to the command's to
+    # the last bit; the single audit's Budget carries the same values; without it there are none.
+    features = random_polygons(seed=18, count=40)
+    path = tmp_path / "b.ndjson"
+    write_ndjson(path, features)
+    rows, _ = run_cli([str(path), "--crs", "EPSG:32615", "--tolerance", TOLERANCE, "--bounds"], tmp_path)
+    geometries = [f["geometry"] for f in features]
+    table = auditor.audit_many(geometries, ids=[f["id"] for f in features], bounds=True)
+    assert_table_equals_cli(table, rows, bounds=True)
+    plain = gridtruth.result_columns()
+    names = gridtruth.result_columns(bounds=True)
+    assert names[:len(plain)] == plain and len(names) == len(plain) + 14
+    assert names[len(plain)] == "true_length_bound_m" and names[-1] == "area_from_height_bound_m2"
+    assert "true_length_bound_m" not in auditor.audit_many(geometries[:3]).columns
+    for k in (0, 17, 39):
+        r = auditor.audit(geometries[k])
+        row = table.iloc[k]
+        for measure, unit in (("length", "m"), ("area", "m2")):
+            budget = getattr(r, measure)
+            for field, column in zip(BOUND_FIELDS, ["true", "grid", "error", "from_edges", "from_scale",
+                                                    "from_datum", "from_height"]):
+                name = (f"{column}_{measure}_bound_{unit}" if column in ("true", "grid")
+                        else f"{measure}_{column}_bound_{unit}")
+                assert getattr(budget, field + "_bound") == row[name], name
+                assert row[name] >= 0, name
+        assert r.area.densified_grid_bound >= 0 and r.area.ellipsoid_source_bound >= 0
+
+
 def test_one_geometry_gives_the_budget_fields(auditor):
     polygon = shapely.geometry.Polygon([(-95.40, 44.10), (-95.375, 44.10), (-95.375, 44.1135), (-95.40, 44.1135)])
     r = auditor.audit(polygon)

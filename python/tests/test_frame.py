@@ -91,6 +91,14 @@ def test_geographic_frame_to_albers_and_missing_crs():
     assert np.array_equal(out["true_area_m2"].to_numpy(), direct["true_area_m2"].to_numpy(), equal_nan=True)
     with pytest.raises(ValueError, match="no CRS"):
         gridtruth.audit_frame(geopandas.GeoDataFrame(geometry=[shapely.geometry.Point(0, 0)]), "EPSG:32615")
+    # bounds=True: the bound columns, after the others, as audit_many(bounds=True) gives them.
+    bounded = gridtruth.audit_frame(gdf, "EPSG:5070", join=False, bounds=True)
+    assert list(bounded.columns) == gridtruth.result_columns(bounds=True)
+    direct_bounds = gridtruth.Auditor("EPSG:5070", source_crs="EPSG:4326").audit_many(gdf.geometry.values,
+                                                                                     bounds=True)
+    for name in gridtruth.result_columns(bounds=True)[len(gridtruth.result_columns()):]:
+        assert np.array_equal(bounded[name].to_numpy(), direct_bounds[name].to_numpy(), equal_nan=True), name
+    assert "true_area_bound_m2" not in out.columns
 
 
 def test_rank_equals_the_command(tmp_path):
