@@ -18,6 +18,7 @@
 #include "gridtruth/error.hpp"
 #include "gridtruth/rank.hpp"
 #include "gridtruth/tailor.hpp"
+#include "../lib/choose/rank_detail.hpp"  // detail::audit_candidate: one candidate audited exactly
 #include "test_files.hpp"
 
 namespace {
@@ -176,7 +177,7 @@ TEST(Tailor, TransverseMercatorHalvesUniformScaleErrorAndBeatsUtm) {
   RankOptions ro;
   ro.metric = RankMetric::length;
   for (const char* id : {"EPSG:32614", "EPSG:32615", "EPSG:32616"}) {
-    const RankedCrs r = audit_candidate({id, id, false, id, true}, features, {}, {}, ro);
+    const RankedCrs r = gridtruth::detail::audit_candidate({id, id, false, id, true}, features, {}, {}, ro);
     best_utm = std::min(best_utm, r.worst_ppm);
   }
   EXPECT_LE(t.audit.worst_ppm, best_utm);

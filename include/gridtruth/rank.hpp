@@ -116,9 +116,4 @@ std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptio
 RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
                     const RankOptions& options);
 
-/// Audits the features exactly in one candidate (indices: which features; empty = all).
-RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
-                          const std::vector<double>& heights_m, const std::vector<std::size_t>& indices,
-                          const RankOptions& options);
-
 }  // namespace gridtruth

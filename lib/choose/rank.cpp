@@ -367,7 +367,7 @@ std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptio
   return out;
 }
 
-RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
+RankedCrs detail::audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
                           const std::vector<double>& heights_m, const std::vector<std::size_t>& indices,
                           const RankOptions& options) {
   std::vector<std::size_t> which = indices;
@@ -499,7 +499,7 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
     if (audited.size() >= leaders) break;
     if (!std::isfinite(score)) break;
     try {
-      RankedCrs r = audit_candidate(candidates[k], features, heights_m, sample, options);
+      RankedCrs r = detail::audit_candidate(candidates[k], features, heights_m, sample, options);
       r.screen_ppm = score;
       r.sampled = sampling;
       audited.push_back(std::move(r));
@@ -513,7 +513,7 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
     const std::size_t n = std::min(options.full_reaudit, audited.size());
     std::vector<RankedCrs> full;
     for (std::size_t k = 0; k < n; ++k) {
-      RankedCrs r = audit_candidate(audited[k].candidate, features, heights_m, usable, options);
+      RankedCrs r = detail::audit_candidate(audited[k].candidate, features, heights_m, usable, options);
       r.screen_ppm = audited[k].screen_ppm;
       full.push_back(std::move(r));
     }

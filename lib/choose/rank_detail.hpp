@@ -1,4 +1,5 @@
-// Internal: the cheap screening of a candidate CRS by distortion factors at sample vertices (rank.cpp, tailor.cpp).
+// Internal: the cheap screening of a candidate CRS by distortion factors at sample vertices, and the exact audit of
+// one candidate (rank.cpp, tailor.cpp; tests/rank_test.cpp).
 #pragma once
 
 #include <proj.h>
@@ -31,6 +32,12 @@ std::vector<ScreenPoint> screen_points(const std::vector<Geometry>& features, co
 /// left out (they change scale by far less than a ppm).
 double screen_definition(PJ_CONTEXT* ctx, const std::string& definition, const std::vector<ScreenPoint>& points,
                          RankMetric metric);
+
+/// Audits the features exactly in one candidate (indices: which features; empty = all): the valid features that
+/// carry options.metric, each at its own height when heights_m gives one (heights_m empty or one per feature).
+RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
+                          const std::vector<double>& heights_m, const std::vector<std::size_t>& indices,
+                          const RankOptions& options);
 
 /// "+datum=WGS84" for a WGS 84 ellipsoid, "+ellps=GRS80" for GRS 1980, else "+a=… +rf=…" (or "+R=…").
 std::string proj_ellipsoid_terms(const Ellipsoid& ellipsoid);

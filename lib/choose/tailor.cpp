@@ -267,7 +267,7 @@ TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector
   }
   CandidateCrs cand{"tailored:" + std::string(to_string(family)), "Tailored " + std::string(to_string(family)), true,
                     out.proj_string, std::nullopt};
-  out.audit = audit_candidate(cand, features, heights_m, {}, ro);
+  out.audit = detail::audit_candidate(cand, features, heights_m, {}, ro);
   out.audit.screen_ppm = best;
   if (options.compare_registry) {
     RankOptions registry = ro;

@@ -17,6 +17,7 @@
 #include "gridtruth/runner.hpp"
 #include "gridtruth/tailor.hpp"
 #include "gridtruth/version.hpp"
+#include "audit/runner_detail.hpp"  // detail::unread_result (lib/ is on this module's private include path)
 
 namespace py = pybind11;
 using namespace gridtruth;
@@ -264,7 +265,7 @@ PYBIND11_MODULE(_core, m) {
           "audit",
           [](const Auditor& a, py::handle geometry, std::optional<double> height_m) {
             InputFeature f = python::feature_of(geometry);
-            if (!f.geometry) return unread_result(f);
+            if (!f.geometry) return detail::unread_result(f);
             py::gil_scoped_release release;
             return height_m ? a.audit(*f.geometry, *height_m) : a.audit(*f.geometry);
           },
