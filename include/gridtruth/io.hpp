@@ -222,6 +222,8 @@ std::string csv_field(std::string_view text);
 /// What a result column holds: text (id, names, message), a count (vertices) or a number (m, m², ppm, scales,
 /// degrees, arcseconds: the unit is in the column's name).
 enum class ColumnKind { text, count, number };
+/// "text", "count" or "number"; never throws.
+std::string_view to_string(ColumnKind kind) noexcept;
 
 /// One column of the result table (ResultCsvWriter's columns, in order).
 struct ResultColumn {

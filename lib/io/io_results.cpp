@@ -229,4 +229,13 @@ void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view mes
               line_ending_);
 }
 
+std::string_view to_string(ColumnKind kind) noexcept {
+  switch (kind) {
+    case ColumnKind::text: return "text";
+    case ColumnKind::count: return "count";
+    case ColumnKind::number: return "number";
+  }
+  return "";
+}
+
 }  // namespace gridtruth
