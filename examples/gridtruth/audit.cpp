@@ -342,15 +342,11 @@ class AuditOutputs {
 
   /// One feature that was read (its geometry is set) and its result.
   void add(const InputFeature& feature, const AuditResult& result) {
-    std::optional<AuditResult> annotated;
-    if (!result.failed.empty()) {
-      annotated = result;
-      annotated->message = row_message(result);
-    }
-    const AuditResult& row = annotated ? *annotated : result;
-    extra_->cells(feature, &row, writer_->extra_cells());
-    writer_->write_row(feature.id, row);
-    if (gpkg_) as_output_error([&] { gpkg_->write_feature(feature.id, *feature.geometry, row, feature.properties_json); });
+    // One result for every output: its message already names the failed tolerances (the library sets it).
+    extra_->cells(feature, &result, writer_->extra_cells());
+    writer_->write_row(feature.id, result);
+    if (gpkg_)
+      as_output_error([&] { gpkg_->write_feature(feature.id, *feature.geometry, result, feature.properties_json); });
     summary_.add(feature, result);
     if (report_) report_->add(feature.id, *feature.geometry, result);
     if (geojson_) geojson_->write_feature(feature.id, *feature.geometry, result, feature.properties_json);

@@ -203,7 +203,9 @@ std::string_view to_string(Status s) noexcept;
 struct AuditResult {
   /// ok, invalid or unmeasurable; see Status.
   Status status = Status::ok;
-  std::string message;          ///< why invalid / unmeasurable, or a warning; empty when nothing to say
+  /// Why invalid / unmeasurable, or a warning, then (after "; ") "exceeds " and the failed tolerances as given,
+  /// comma-separated ("exceeds area<=500ppm"); empty when nothing to say. Every output writes this text.
+  std::string message;
   /// The feature's geometry type, as given.
   GeometryType type = GeometryType::point;
   std::size_t vertices = 0;     ///< vertices as given

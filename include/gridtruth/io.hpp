@@ -257,12 +257,8 @@ struct ResultRow {
   std::size_t size = 0;                           ///< result_columns(combined_factor).size()
 };
 
-/// The text of a row's `message` column: AuditResult::message, then (after "; " when both are there) "exceeds "
-/// and the failed tolerances (AuditResult::failed), comma-separated, e.g. "exceeds area<=500ppm".
-std::string row_message(const AuditResult& result);
-
-/// The row of an audited feature (`id` as given). Its message cell is AuditResult::message: give the writer a
-/// result whose message is row_message() for the command's rows.
+/// The row of an audited feature (`id` as given). Its message cell is AuditResult::message (which names the
+/// failed tolerances, "exceeds area<=500ppm", after any warning).
 ResultRow result_row(std::string_view id, const AuditResult& result, bool combined_factor = false,
                      bool bounds = false);
 /// The row of a feature that could not be read: status `invalid`, the message, the geometry type when known, every

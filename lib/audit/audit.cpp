@@ -1377,6 +1377,12 @@ void Auditor::Impl::apply_verdict(AuditResult& r) const {
     if (!(std::fabs(observed) <= t.value)) r.failed.push_back(t.as_given());
   }
   if (any) r.verdict = r.failed.empty() ? Verdict::pass : Verdict::fail;
+  // The message names the failed tolerances, after any warning: every output (CSV, GeoJSON, GeoPackage, Python)
+  // carries this one text.
+  for (std::size_t k = 0; k < r.failed.size(); ++k) {
+    r.message += k > 0 ? ", " : r.message.empty() ? "exceeds " : "; exceeds ";
+    r.message += r.failed[k];
+  }
 }
 
 AuditResult Auditor::Impl::audit(const Geometry& input, double height_m) const {

@@ -101,15 +101,6 @@ void add_budget_bounds(ResultRow& row, const std::optional<Budget>& b) {
 
 }  // namespace
 
-std::string row_message(const AuditResult& r) {
-  std::string text = r.message;
-  for (std::size_t k = 0; k < r.failed.size(); ++k) {
-    text += k > 0 ? ", " : text.empty() ? "exceeds " : "; exceeds ";
-    text += r.failed[k];
-  }
-  return text;
-}
-
 ResultRow result_row(std::string_view id, const AuditResult& r, bool combined_factor, bool bounds) {
   ResultRow row;
   row.cells[row.size++].text = id;

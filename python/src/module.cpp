@@ -114,11 +114,6 @@ py::dict result_table(const std::vector<RowKey>& features, const std::vector<Aud
     const RowKey& f = features[i];
     ResultRow row = f.read ? result_row(f.id, results[i], combined_factor)
                            : unread_row(f.id, results[i].message, f.declared_type, combined_factor);
-    std::string message;  // the command's message column: with the failed tolerances
-    if (f.read && !results[i].failed.empty()) {
-      message = row_message(results[i]);
-      row.cells[3].text = message;
-    }
     for (std::size_t k = 0; k < row.size; ++k) {
       if (data[k]) data[k][i] = row.cells[k].number;
       else texts[k][i] = py::str(row.cells[k].text.data(), row.cells[k].text.size());
