@@ -186,12 +186,13 @@ TEST(RawFeatures, FastParsingAgreesWithTheNlohmannReadingOnEveryFeature) {
       FeatureReader reader(in, options);
       try {
         while (auto raw = reader.next_raw()) {
-          if (raw->read) continue;  // read whole by the cutter: nothing to parse
+          const gridtruth::detail::CutFeature& cut = gridtruth::detail::cut_of(*raw);
+          if (cut.read) continue;  // read whole by the cutter: nothing to parse
           InputFeature fast, reference;
-          fast.line = reference.line = raw->line;
-          gridtruth::detail::parse_json_feature(*raw, options, fast);
-          gridtruth::detail::parse_json_feature_reference(*raw, options, reference);
-          EXPECT_EQ(describe(fast), describe(reference)) << raw->text.substr(0, 300);
+          fast.line = reference.line = raw->line();
+          gridtruth::detail::parse_json_feature(cut, options, fast);
+          gridtruth::detail::parse_json_feature_reference(cut, options, reference);
+          EXPECT_EQ(describe(fast), describe(reference)) << cut.text.substr(0, 300);
           ++compared;
         }
       } catch (const gridtruth::Error&) {
@@ -236,14 +237,14 @@ TEST(RawFeatures, RawFeaturesAreNumberedAndKeepTheirLineAndByte) {
   auto b = reader.next_raw();
   ASSERT_TRUE(a && b);
   EXPECT_FALSE(reader.next_raw());
-  EXPECT_EQ(a->position, 1u);
-  EXPECT_EQ(a->line, 2u);
-  EXPECT_EQ(a->byte, 1u);
-  EXPECT_EQ(a->text, hostile[0]);
-  EXPECT_EQ(b->position, 2u);
-  EXPECT_EQ(b->line, 4u);
-  EXPECT_EQ(b->byte, text.find('\x1E') + 1);
-  EXPECT_EQ(b->text, hostile[7] + "\n");  // up to the next RS or the end (RFC 7464 section 2.1)
+  EXPECT_EQ(a->position(), 1u);
+  EXPECT_EQ(a->line(), 2u);
+  EXPECT_EQ(gridtruth::detail::cut_of(*a).byte, 1u);
+  EXPECT_EQ(gridtruth::detail::cut_of(*a).text, hostile[0]);
+  EXPECT_EQ(b->position(), 2u);
+  EXPECT_EQ(b->line(), 4u);
+  EXPECT_EQ(gridtruth::detail::cut_of(*b).byte, text.find('\x1E') + 1);
+  EXPECT_EQ(gridtruth::detail::cut_of(*b).text, hostile[7] + "\n");  // up to the next RS or the end (RFC 7464 section 2.1)
 }
 
 }  // namespace

@@ -14,6 +14,7 @@
 #include <string>
 #include <vector>
 
+#include "gridtruth/audit.hpp"
 #include "gridtruth/error.hpp"
 #include "test_files.hpp"
 

@@ -9,6 +9,7 @@
 #include <cstdio>
 #include <cstdlib>
 #include <fstream>
+#include <optional>
 #include <set>
 #include <sstream>
 #include <string>
@@ -18,6 +19,7 @@
 #include "gridtruth/error.hpp"
 #include "gridtruth/rank.hpp"
 #include "gridtruth/tailor.hpp"
+#include "../lib/choose/rank_detail.hpp"  // detail::audit_candidate: one candidate audited exactly
 #include "test_files.hpp"
 
 namespace {
@@ -53,6 +55,14 @@ std::vector<Geometry> strip_lines(double centre_lon, double half_width_deg, doub
   return out;
 }
 
+/// The geometries as rank_crs() and tailor_crs() take them, each at heights_m[i] (heights_m empty: no heights).
+std::vector<RankFeature> to_rank(const std::vector<Geometry>& geometries, const std::vector<double>& heights_m = {}) {
+  std::vector<RankFeature> out;
+  for (std::size_t i = 0; i < geometries.size(); ++i)
+    out.push_back({geometries[i], heights_m.empty() ? std::nullopt : std::optional<double>(heights_m[i])});
+  return out;
+}
+
 bool is_equal_area(const std::string& crs) {
   return crs == "generated:aea" || crs == "generated:laea" || crs == "EPSG:6933" || crs == "EPSG:8857";
 }
@@ -74,7 +84,7 @@ TEST(Rank, EqualAreaCandidatesLeadForAreaWithNoScalePart) {
   o.metric = RankMetric::area;
   o.registry = false;  // only the generated candidates and the world baselines: all of them audited
   o.leaders = 50;
-  const RankReport report = rank_crs(features, {}, o);
+  const RankReport report = rank_crs(to_rank(features), o);
   ASSERT_GE(report.ranked.size(), 8u);
   std::size_t last_equal_area = 0, first_conformal = report.ranked.size();
   int equal_area = 0, conformal = 0;
@@ -117,7 +127,7 @@ TEST(Rank, TransverseMercatorBeatsConicOnNorthSouthStrip) {
   o.metric = RankMetric::length;
   o.registry = false;
   o.leaders = 50;
-  const RankReport report = rank_crs(features, {}, o);
+  const RankReport report = rank_crs(to_rank(features), o);
   const RankedCrs* tm = find(report, "generated:tmerc");
   const RankedCrs* lcc = find(report, "generated:lcc");
   const RankedCrs* aea = find(report, "generated:aea");
@@ -155,7 +165,7 @@ TEST(Tailor, TransverseMercatorHalvesUniformScaleErrorAndBeatsUtm) {
   TailorOptions o;
   o.rank.metric = RankMetric::length;
   o.compare_registry = false;
-  const TailorResult t = tailor_crs(features, {}, ProjectionFamily::transverse_mercator, o);
+  const TailorResult t = tailor_crs(to_rank(features), ProjectionFamily::transverse_mercator, o);
   ASSERT_EQ(t.audit.unmeasured, 0u);
   EXPECT_NEAR(t.audit.worst_ppm, expected_ppm, 0.03 * expected_ppm);
   ASSERT_EQ(t.parameters.size(), 2u);
@@ -167,7 +177,7 @@ TEST(Tailor, TransverseMercatorHalvesUniformScaleErrorAndBeatsUtm) {
 
   // The uniform k₀ = 1 transverse Mercator on the same meridian, audited exactly, matches the closed form.
   o.optimise_scale = false;
-  const TailorResult uniform = tailor_crs(features, {}, ProjectionFamily::transverse_mercator, o);
+  const TailorResult uniform = tailor_crs(to_rank(features), ProjectionFamily::transverse_mercator, o);
   EXPECT_NEAR(uniform.audit.worst_ppm, uniform_ppm, 0.03 * uniform_ppm);
   EXPECT_NEAR(t.audit.worst_ppm / uniform.audit.worst_ppm, 0.5, 0.03);
 
@@ -176,7 +186,7 @@ TEST(Tailor, TransverseMercatorHalvesUniformScaleErrorAndBeatsUtm) {
   RankOptions ro;
   ro.metric = RankMetric::length;
   for (const char* id : {"EPSG:32614", "EPSG:32615", "EPSG:32616"}) {
-    const RankedCrs r = audit_candidate({id, id, false, id, true}, features, {}, {}, ro);
+    const RankedCrs r = gridtruth::detail::audit_candidate({id, id, false, id, true}, to_rank(features), {}, ro);
     best_utm = std::min(best_utm, r.worst_ppm);
   }
   EXPECT_LE(t.audit.worst_ppm, best_utm);
@@ -189,8 +199,8 @@ TEST(Tailor, HeightsRaiseTheFittedScaleFactor) {
   TailorOptions o;
   o.rank.metric = RankMetric::length;
   o.compare_registry = false;
-  const TailorResult ground = tailor_crs(features, heights, ProjectionFamily::transverse_mercator, o);
-  const TailorResult ellipsoid = tailor_crs(features, {}, ProjectionFamily::transverse_mercator, o);
+  const TailorResult ground = tailor_crs(to_rank(features, heights), ProjectionFamily::transverse_mercator, o);
+  const TailorResult ellipsoid = tailor_crs(to_rank(features), ProjectionFamily::transverse_mercator, o);
   const double lat = 39.5 * pi / 180;
   const double e2 = wgs84_f * (2 - wgs84_f), w2 = 1 - e2 * std::sin(lat) * std::sin(lat);
   const double rg = wgs84_a * std::sqrt(1 - e2) / w2;  // Gaussian mean radius √(MN) (common practice)
@@ -212,8 +222,8 @@ TEST(Tailor, ObliqueMercatorBeatsTransverseMercatorOnADiagonalStrip) {
   TailorOptions o;
   o.rank.metric = RankMetric::length;
   o.compare_registry = false;
-  const TailorResult omerc = tailor_crs(features, {}, ProjectionFamily::oblique_mercator, o);
-  const TailorResult tm = tailor_crs(features, {}, ProjectionFamily::transverse_mercator, o);
+  const TailorResult omerc = tailor_crs(to_rank(features), ProjectionFamily::oblique_mercator, o);
+  const TailorResult tm = tailor_crs(to_rank(features), ProjectionFamily::transverse_mercator, o);
   ASSERT_EQ(omerc.audit.unmeasured, 0u);
   ASSERT_EQ(tm.audit.unmeasured, 0u);
   EXPECT_LT(omerc.audit.worst_ppm, tm.audit.worst_ppm / 5);
@@ -251,10 +261,10 @@ TEST(Rank, SameRankingOnEveryRunAndThreadCount) {
   o.metric = RankMetric::area;
   o.sample_features = 25;  // force the sampled path with its full re-audit
   o.threads = 1;
-  const RankReport one = rank_crs(features, {}, o);
+  const RankReport one = rank_crs(to_rank(features), o);
   o.threads = 4;
-  const RankReport four = rank_crs(features, {}, o);
-  const RankReport again = rank_crs(features, {}, o);
+  const RankReport four = rank_crs(to_rank(features), o);
+  const RankReport again = rank_crs(to_rank(features), o);
   ASSERT_EQ(one.sample, 25u);
   ASSERT_FALSE(one.ranked.empty());
   for (const RankReport* other : {&four, &again}) {
@@ -293,7 +303,7 @@ TEST(Rank, ExtentAcrossTheAntimeridian) {
     }
   }
   EXPECT_GT(registry, 2);
-  const RankReport report = rank_crs(features, {}, o);
+  const RankReport report = rank_crs(to_rank(features), o);
   ASSERT_FALSE(report.ranked.empty());
   EXPECT_EQ(report.ranked.front().unmeasured, 0u);
   EXPECT_LT(report.ranked.front().worst_ppm, 1.0);
@@ -303,7 +313,7 @@ TEST(Rank, NoFeatureWithTheMetricIsAnError) {
   const std::vector<Geometry> lines = strip_lines(10.0, 0.2, 50.0, 1);
   RankOptions o;
   o.metric = RankMetric::area;
-  EXPECT_THROW(rank_crs(lines, {}, o), Error);
+  EXPECT_THROW(rank_crs(to_rank(lines), o), Error);
   EXPECT_THROW(parse_rank_metric("volume"), Error);
   EXPECT_THROW(parse_projection_family("mercator"), Error);
 }
@@ -390,7 +400,7 @@ TEST(Rank, InvalidFeaturesAreSkippedAndCounted) {
   RankOptions o;
   o.metric = RankMetric::area;
   o.leaders = 2;
-  const RankReport report = rank_crs({square, bowtie, square}, {}, o);
+  const RankReport report = rank_crs(to_rank({square, bowtie, square}), o);
   EXPECT_EQ(report.features, 2u);
   EXPECT_EQ(report.invalid, 1u);
   ASSERT_FALSE(report.ranked.empty());
@@ -398,7 +408,7 @@ TEST(Rank, InvalidFeaturesAreSkippedAndCounted) {
   TailorOptions t;
   t.rank.metric = RankMetric::area;
   t.compare_registry = false;
-  EXPECT_EQ(tailor_crs({square, bowtie, square}, {}, ProjectionFamily::transverse_mercator, t).invalid, 1u);
+  EXPECT_EQ(tailor_crs(to_rank({square, bowtie, square}), ProjectionFamily::transverse_mercator, t).invalid, 1u);
 }
 
 TEST_F(RankCli, SaysHowManyInvalidFeaturesWereSkipped) {

@@ -319,7 +319,7 @@ class AuditOutputs {
       geojson_file_ = std::make_unique<cli::OutputFile>(args_.geojson);
       as_output_error([&] {
         geojson_.emplace(geojson_file_->stream(), plan_.options.source_crs,
-                         args_.geojson_crs == "source" ? GeoJsonCoordinates::source : GeoJsonCoordinates::wgs84);
+                         parse_geojson_coordinates(args_.geojson_crs));
       });
       geojson_->with_combined_factor(plan_.with_heights);
       geojson_->with_all_digits(args_.all_digits);

@@ -113,8 +113,7 @@ int write_class_areas(const CellsArgs& a, const std::string& format, const CellG
     if (format == "counts") add_class_counts_csv(a.classes, acc);
     else if (format == "gdal") add_class_raster(a.classes, spec, acc);
     else
-      add_raw_class_raster(a.classes, grid.spec(), a.class_type == "uint16" ? RawCodeType::uint16 : RawCodeType::uint8,
-                           acc);
+      add_raw_class_raster(a.classes, grid.spec(), parse_raw_code_type(a.class_type), acc);
   } catch (const Error& e) {
     return fail(e.what());
   }

@@ -75,7 +75,7 @@ int run_rank(const RankArgs& a) {
   RankReport report;
   try {
     const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
-    report = rank_crs(features.geometries, features.heights_m, options);
+    report = rank_crs(features.features, options);
   } catch (const std::exception& e) {
     std::cerr << "gridtruth rank: " << e.what() << "\n";
     return 2;

@@ -14,14 +14,15 @@
 #include "commands.hpp"
 #include "gridtruth/error.hpp"
 #include "gridtruth/io.hpp"
+#include "gridtruth/rank.hpp"
 #include "gridtruth/text.hpp"
 
 namespace gridtruth::cli {
 
-/// Every feature's geometry and height; features the reader could not understand are counted and left out.
+/// Every feature's geometry and height (with a height field); features the reader could not understand are counted
+/// and left out.
 struct LoadedFeatures {
-  std::vector<Geometry> geometries;
-  std::vector<double> heights_m;  ///< empty without a height field
+  std::vector<RankFeature> features;
   std::size_t unreadable = 0;
 };
 
@@ -41,8 +42,7 @@ inline LoadedFeatures load_features(const std::string& input, const std::string&
       ++out.unreadable;
       continue;
     }
-    out.geometries.push_back(std::move(*f->geometry));
-    if (!height_field.empty()) out.heights_m.push_back(f->height_m.value_or(0.0));
+    out.features.push_back({std::move(*f->geometry), f->height_m});  // a height only with a height field
   }
   return out;
 }

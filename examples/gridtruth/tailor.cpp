@@ -56,7 +56,7 @@ int run_tailor(const TailorArgs& a) {
   TailorResult t;
   try {
     const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
-    t = tailor_crs(features.geometries, features.heights_m, family, options);
+    t = tailor_crs(features.features, family, options);
   } catch (const std::exception& e) {
     std::cerr << "gridtruth tailor: " << e.what() << "\n";
     return 2;

@@ -34,6 +34,9 @@ enum class EdgeModel {
   rhumb,     ///< the loxodrome of constant azimuth (parallels and meridians are rhumb lines; zones drawn on them)
   straight,  ///< straight in the plane of a projected CRS (data digitised or surveyed on that grid)
 };
+/// "geodesic", "rhumb" or "straight" (users give an edge model with its CRS, as EdgeSpec::parse() reads it);
+/// never throws.
+std::string_view to_string(EdgeModel model) noexcept;
 
 /// An edge model and, for `straight`, the CRS in whose plane the edges are straight.
 struct EdgeSpec {

@@ -17,6 +17,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "gridtruth/compensated_sum.hpp"
@@ -165,6 +166,10 @@ class ClassAreaAccumulator {
 
 /// The cell type of a raw class raster (add_raw_class_raster()).
 enum class RawCodeType { uint8, uint16 };
+/// "uint8" or "uint16"; never throws.
+std::string_view to_string(RawCodeType type) noexcept;
+/// Parses the names of to_string(); throws Error(invalid_argument) otherwise.
+RawCodeType parse_raw_code_type(std::string_view name);
 
 /// Streams a raw class raster into `acc`, in strips of whole rows: the codes of the grid's cols × rows cells,
 /// row-major, one byte (uint8) or two little-endian bytes (uint16) per cell, and nothing else (no header).

@@ -3,11 +3,14 @@
 
 #include <optional>
 #include <string>
+#include <string_view>
 
 namespace gridtruth {
 
 /// What kind of CRS a definition resolves to (compound CRSs are described by their horizontal part).
 enum class CrsKind { geographic, projected, geocentric, other };
+/// "geographic", "projected", "geocentric" or "other"; never throws.
+std::string_view to_string(CrsKind kind) noexcept;
 
 /// An ellipsoid: semi-major axis a (metres) and flattening f (0 for a sphere).
 struct Ellipsoid {
@@ -47,6 +50,8 @@ enum class CrsFileAccess {
                      ///< install's share/proj, the user's writable PROJ directory), read only; never a FIFO, a
                      ///< device or a path outside them, whatever the definition spells (absolute, "..", links)
 };
+/// "any" or "data_directories" (spelled as the enumerator); never throws.
+std::string_view to_string(CrsFileAccess access) noexcept;
 
 /// Sets the file access of the PROJ contexts gridtruth creates from now on (describe_crs, Auditor, rank_crs,
 /// tailor_crs, CellGrid): process-wide, thread-safe; objects already built keep theirs. The library's default is

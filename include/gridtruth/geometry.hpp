@@ -87,6 +87,9 @@ struct Problem {
   std::optional<Coord> at = std::nullopt;
 };
 
+/// The code's stable name, spelled as the enumerator ("non_finite", "self_intersection", ...); never throws.
+std::string_view to_string(Problem::Code code) noexcept;
+
 /// Whether a problem is one of polygon topology (self_intersection ... parts_overlap), which repair() can mend.
 bool is_topology(Problem::Code code) noexcept;
 

@@ -29,10 +29,11 @@
 #include <utility>
 #include <vector>
 
-#include "gridtruth/audit.hpp"
 #include "gridtruth/geometry.hpp"
 
 namespace gridtruth {
+
+struct AuditResult;  // gridtruth/audit.hpp: the writers take results by reference only
 
 /// Input formats. `automatic` sniffs the first bytes (see sniff_format()).
 enum class InputFormat { automatic, geojson, ndjson, csv, gdal };
@@ -82,17 +83,38 @@ struct InputFeature {
   std::string properties_json;
 };
 
+class RawFeature;
+namespace detail {
+struct CutFeature;  // the reader's working state of a cut feature (lib/io/io_detail.hpp)
+/// The working state of a feature cut by FeatureReader::next_raw(), for the library's readers and their tests.
+const CutFeature& cut_of(const RawFeature& raw) noexcept;
+}  // namespace detail
+
 /// One feature cut out of the input by FeatureReader::next_raw() and not parsed yet; FeatureReader::parse() turns
 /// it into the InputFeature that next() would have returned. Cutting is cheap and serial, parsing is the costly
-/// part and may run on other threads. The members other than `position` and `line` are the reader's working state:
-/// read them for diagnostics, do not change them.
-struct RawFeature {
-  std::size_t position = 0;  ///< 1-based position in the input
-  std::size_t line = 0;      ///< line where the feature starts (0 when not tracked)
-  std::string text;          ///< the feature's JSON text (GeoJSON, ndjson); empty when `read` holds the feature
-  std::optional<std::uint64_t> byte;  ///< 0-based offset of `text` in the input; absent when the text was rebuilt
-  bool line_in_messages = false;      ///< malformed-JSON messages start with "line N: " (ndjson)
-  std::optional<InputFeature> read;   ///< the feature, already read (CSV records, a truncated last feature)
+/// part and may run on other threads. Opaque apart from its position and line: what else it holds (the feature's
+/// text, or the feature already read) is the reader's working state. Moves only.
+class RawFeature {
+ public:
+  /// 1-based position in the input.
+  std::size_t position() const noexcept { return position_; }
+  /// Line where the feature starts (0 when not tracked).
+  std::size_t line() const noexcept;
+
+  ~RawFeature();
+  /// Moves; the moved-from feature may only be destroyed or assigned to.
+  RawFeature(RawFeature&&) noexcept;
+  /// Moves; the moved-from feature may only be destroyed or assigned to.
+  RawFeature& operator=(RawFeature&&) noexcept;
+  RawFeature(const RawFeature&) = delete;
+  RawFeature& operator=(const RawFeature&) = delete;
+
+ private:
+  friend class FeatureReader;
+  friend const detail::CutFeature& detail::cut_of(const RawFeature& raw) noexcept;
+  RawFeature(std::size_t position, std::unique_ptr<detail::CutFeature> cut) noexcept;
+  std::size_t position_ = 0;
+  std::unique_ptr<detail::CutFeature> cut_;
 };
 
 /// Arrays and objects nested deeper than this in a JSON feature make it invalid (properties included), so that no
@@ -143,11 +165,12 @@ class FeatureReader {
   /// The next feature's text, cut out of the input without parsing it, or nothing at the end of the input.
   /// parse(*next_raw()) is the feature next() would have returned; the two may be mixed. Throws as next() does
   /// (a malformed feature inside a readable container is no throw: parse() gives it its error).
-  /// CSV records are read whole here (RawFeature::read), so only JSON inputs gain from parsing elsewhere.
+  /// CSV records (and GDAL features) are read whole here, so only JSON inputs gain from parsing elsewhere.
   std::optional<RawFeature> next_raw();
   /// Parses a feature cut by next_raw() of this reader (consuming its text). Never throws for bad feature content
   /// (the InputFeature carries the error); thread-safe (see the class comment). Cost: about 1 µs per kilobyte of
   /// GeoJSON; features with Unicode escapes, signed zeros or malformed JSON take a slower exact path.
+  /// A moved-from RawFeature is a caller's error: Error(invalid_argument).
   InputFeature parse(RawFeature raw) const;
 
   /// Every span skipped and every damaged end met so far, in input order (for summaries; see the file comment).
@@ -199,6 +222,8 @@ std::string csv_field(std::string_view text);
 /// What a result column holds: text (id, names, message), a count (vertices) or a number (m, m², ppm, scales,
 /// degrees, arcseconds: the unit is in the column's name).
 enum class ColumnKind { text, count, number };
+/// "text", "count" or "number"; never throws.
+std::string_view to_string(ColumnKind kind) noexcept;
 
 /// One column of the result table (ResultCsvWriter's columns, in order).
 struct ResultColumn {
@@ -272,8 +297,6 @@ class ResultCsvWriter {
                         std::optional<GeometryType> type = std::nullopt);
 
  private:
-  void write_cells(const ResultRow& row);
-
   std::ostream* out_;
   std::string line_ending_;
   bool combined_factor_ = false;

@@ -46,9 +46,19 @@ struct GeoExtent {
   /// Width in degrees of longitude (antimeridian handled).
   double width_deg() const noexcept { return crosses_antimeridian() ? east_deg + 360 - west_deg : east_deg - west_deg; }
 };
+/// One feature to rank CRSs for (rank_crs()) or to fit a projection to (tailor_crs()).
+struct RankFeature {
+  Geometry geometry;  ///< longitude, latitude in degrees on the source CRS
+  /// Ellipsoidal height in metres (ground lift: lengths and areas are true at this height); absent: on the
+  /// ellipsoid (0 m).
+  std::optional<double> height_m;
+};
+
 /// The extent of every vertex of the valid features (longitude, latitude in degrees). Throws
 /// Error(invalid_argument) when there is none.
 GeoExtent extent_of(const std::vector<Geometry>& features);
+/// The same for the geometries of RankFeatures (their heights play no part).
+GeoExtent extent_of(const std::vector<RankFeature>& features);
 
 /// One CRS to try.
 struct CandidateCrs {
@@ -109,16 +119,10 @@ struct RankReport {
 /// EPSG:6933 and EPSG:8857. Sorted by crs id, no duplicates. Throws Error for an unknown source CRS.
 std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptions& options);
 
-/// Ranks candidate CRSs for the features (longitude, latitude in options.source_crs). heights_m is empty or holds
-/// one ellipsoidal height per feature (ground lift). Invalid features (validate(), topology included) are skipped
+/// Ranks candidate CRSs for the features (longitude, latitude in options.source_crs; each at its own ellipsoidal
+/// height when it has one, RankFeature::height_m). Invalid features (validate(), topology included) are skipped
 /// and counted in RankReport::invalid. Throws Error(invalid_argument)
 /// when no feature carries the metric (e.g. an area metric without polygons).
-RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                    const RankOptions& options);
-
-/// Audits the features exactly in one candidate (indices: which features; empty = all).
-RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
-                          const std::vector<double>& heights_m, const std::vector<std::size_t>& indices,
-                          const RankOptions& options);
+RankReport rank_crs(const std::vector<RankFeature>& features, const RankOptions& options);
 
 }  // namespace gridtruth

@@ -110,6 +110,10 @@ enum class GeoJsonCoordinates {
   /// "urn:ogc:def:crs:EPSG::n" for an EPSG CRS, else the definition as given.
   source,
 };
+/// "wgs84" or "source"; never throws.
+std::string_view to_string(GeoJsonCoordinates coordinates) noexcept;
+/// Parses the names of to_string(); throws Error(invalid_argument) otherwise.
+GeoJsonCoordinates parse_geojson_coordinates(std::string_view name);
 
 /// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as
 /// GeoJsonCoordinates says, and as properties every column ResultCsvWriter writes for the feature, under the same

@@ -36,13 +36,10 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
 
 /// Audits features already in memory (e.g. handed over by the Python binding) on the workers of run_audit(): a
 /// clone of `auditor` per worker thread, each feature at its own height when it has one (InputFeature::height_m),
-/// a feature without a geometry `invalid` with its `error` (unread_result()). Result i belongs to feature i; each
+/// a feature without a geometry `invalid` with its `error` (as run_audit() gives it). Result i belongs to feature i; each
 /// result depends only on its feature, so every thread count gives the same results. Thread-safe for distinct
 /// auditors; `auditor` is only cloned. Features are handed to workers in batches of options.batch_features.
 std::vector<AuditResult> audit_features(const std::vector<InputFeature>& features, const Auditor& auditor,
                                         const RunOptions& options);
-
-/// The result given to a feature the reader could not understand: `invalid`, with the reader's message.
-AuditResult unread_result(const InputFeature& feature);
 
 }  // namespace gridtruth

@@ -53,12 +53,12 @@ struct TailorResult {
   std::size_t invalid = 0;  ///< features skipped because validate() finds a problem (e.g. a crossing ring)
 };
 
-/// Fits a family's parameters to the features (longitude, latitude in options.rank.source_crs; heights_m empty or
-/// one ellipsoidal height per feature, so the fit can be a low-distortion ground projection) by Nelder–Mead
+/// Fits a family's parameters to the features (longitude, latitude in options.rank.source_crs; each at its own
+/// ellipsoidal height when it has one, so the fit can be a low-distortion ground projection) by Nelder–Mead
 /// (Nelder & Mead 1965; Lagarias et al. 1998 coefficients 1, 2, ½, ½) on the worst screened |metric| at sample
 /// vertices, restarted once from its optimum, then audits the result exactly. Deterministic.
 /// Throws Error(invalid_argument) when no feature carries the metric, Error for an unusable source CRS.
-TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                        ProjectionFamily family, const TailorOptions& options);
+TailorResult tailor_crs(const std::vector<RankFeature>& features, ProjectionFamily family,
+                        const TailorOptions& options);
 
 }  // namespace gridtruth

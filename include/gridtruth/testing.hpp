@@ -1,7 +1,8 @@
 // gridtruth — GoogleTest matchers and assertions for a pipeline's own unit tests.
 //
 // Header-only. Requires GoogleTest and GoogleMock (Debian: libgtest-dev, libgmock-dev): include it only in test
-// programs that link GTest::gmock (or gmock) and gridtruth::gridtruth.
+// programs that link the CMake target gridtruth::testing (which brings gridtruth::gridtruth and GTest::gmock;
+// find_package(gridtruth COMPONENTS testing) makes sure it is there).
 //
 //   const gridtruth::Auditor auditor(options);          // target CRS under test
 //   EXPECT_THAT(parcels, gridtruth::testing::StaysWithin(auditor, "area=0.05%"));

@@ -9,11 +9,15 @@ namespace gridtruth {
 
 /// What a tolerance limits.
 enum class Metric { area, length, bearing };
+/// "area", "length" or "bearing" (as Tolerance::parse() spells them); never throws.
+std::string_view to_string(Metric metric) noexcept;
+/// Parses the names of to_string(); throws Error(invalid_argument) otherwise.
+Metric parse_metric(std::string_view name);
 
 /// One tolerance. Relative tolerances are stored in ppm (0.1 % → 1000 ppm; 1:10000 → 100 ppm);
 /// absolute ones in metres (length), square metres (area) or arcseconds (bearing).
 struct Tolerance {
-  /// Whether the limit is relative to the reference (ppm) or absolute (m, m², arcsec).
+  /// Whether the limit is relative to the reference (ppm) or absolute (m, m², arcsec); to_string(Kind) names it.
   enum class Kind { relative_ppm, absolute };
   Metric metric = Metric::area;    ///< what is limited: area, length (perimeter for polygons) or bearing error
   Kind kind = Kind::relative_ppm;  ///< relative (|error_ppm| ≤ value) or absolute (|error| ≤ value); bearing: absolute
@@ -32,6 +36,9 @@ struct Tolerance {
   /// closures), anything else is to_string(). parse() reads it back.
   std::string as_given() const;
 };
+
+/// "relative_ppm" or "absolute" (spelled as the enumerator); never throws.
+std::string_view to_string(Tolerance::Kind kind) noexcept;
 
 /// The outcome of comparing a feature against the tolerances that apply to it.
 enum class Verdict { none, pass, fail };

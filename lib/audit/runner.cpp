@@ -14,9 +14,11 @@
 #include <utility>
 #include <vector>
 
+#include "runner_detail.hpp"
+
 namespace gridtruth {
 
-AuditResult unread_result(const InputFeature& feature) {
+AuditResult detail::unread_result(const InputFeature& feature) {
   AuditResult r;
   r.status = Status::invalid;
   r.message = feature.error.empty() ? "the feature has no geometry" : feature.error;
@@ -28,7 +30,7 @@ namespace {
 
 /// A feature's audit as every runner does it: unread, at its own height, or at the auditor's.
 AuditResult audit_feature(const Auditor& auditor, const InputFeature& f) {
-  return !f.geometry ? unread_result(f) : f.height_m ? auditor.audit(*f.geometry, *f.height_m) : auditor.audit(*f.geometry);
+  return !f.geometry ? detail::unread_result(f) : f.height_m ? auditor.audit(*f.geometry, *f.height_m) : auditor.audit(*f.geometry);
 }
 
 unsigned thread_count(const RunOptions& options) {
@@ -100,7 +102,7 @@ std::size_t run_audit(FeatureReader& reader, const Auditor& auditor, const RunOp
                   std::unique_ptr<Auditor>& mine = local.local();
                   batch->features.reserve(batch->raws.size());
                   for (RawFeature& raw : batch->raws) batch->features.push_back(reader.parse(std::move(raw)));
-                  batch->raws = {};
+                  batch->raws = std::vector<RawFeature>();
                   batch->results.reserve(batch->features.size());
                   for (const InputFeature& f : batch->features) batch->results.push_back(audit_feature(*mine, f));
                   return batch;

@@ -116,13 +116,13 @@ std::string proj_ellipsoid_terms(const Ellipsoid& e) {
   return buf;
 }
 
-std::vector<ScreenPoint> screen_points(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                                       const Ellipsoid& ellipsoid, std::size_t count) {
+std::vector<ScreenPoint> screen_points(const std::vector<RankFeature>& features, const Ellipsoid& ellipsoid,
+                                       std::size_t count) {
   std::vector<ScreenPoint> all;
-  for (std::size_t i = 0; i < features.size(); ++i) {
-    if (!valid(features[i])) continue;
-    const double h = heights_m.empty() ? 0.0 : heights_m[i];
-    for_each_vertex(features[i], [&](const Coord& c) {
+  for (const RankFeature& f : features) {
+    if (!valid(f.geometry)) continue;
+    const double h = f.height_m.value_or(0.0);
+    for_each_vertex(f.geometry, [&](const Coord& c) {
       const double rg = gaussian_mean_radius_m(ellipsoid, c.y);
       const auto [m, n] = radii_m(ellipsoid.a_m, ellipsoid.f, c.y);
       all.push_back({c.x, c.y, rg / (rg + h), m, n});
@@ -242,10 +242,15 @@ RankMetric parse_rank_metric(std::string_view name) {
               "unknown metric '" + std::string(name) + "': use area, length, shape or bearing");
 }
 
-GeoExtent extent_of(const std::vector<Geometry>& features) {
+namespace {
+
+/// The extent of the valid geometries among `features`; geometry(feature) gives a feature's Geometry.
+template <typename Feature, typename GeometryOf>
+GeoExtent extent_of_geometries(const std::vector<Feature>& features, GeometryOf geometry) {
   std::vector<double> lons;
   double south = 90, north = -90;
-  for (const Geometry& g : features) {
+  for (const Feature& f : features) {
+    const Geometry& g = geometry(f);
     if (!valid(g)) continue;
     for_each_vertex(g, [&](const Coord& c) {
       lons.push_back(wrap180(c.x));
@@ -274,6 +279,16 @@ GeoExtent extent_of(const std::vector<Geometry>& features) {
   e.centre_lon_deg = wrap180(e.west_deg + e.width_deg() / 2);
   e.centre_lat_deg = (south + north) / 2;
   return e;
+}
+
+}  // namespace
+
+GeoExtent extent_of(const std::vector<Geometry>& features) {
+  return extent_of_geometries(features, [](const Geometry& g) -> const Geometry& { return g; });
+}
+
+GeoExtent extent_of(const std::vector<RankFeature>& features) {
+  return extent_of_geometries(features, [](const RankFeature& f) -> const Geometry& { return f.geometry; });
 }
 
 std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptions& options) {
@@ -367,15 +382,16 @@ std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptio
   return out;
 }
 
-RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geometry>& features,
-                          const std::vector<double>& heights_m, const std::vector<std::size_t>& indices,
-                          const RankOptions& options) {
+RankedCrs detail::audit_candidate(const CandidateCrs& candidate, const std::vector<RankFeature>& features,
+                                  const std::vector<std::size_t>& indices, const RankOptions& options) {
   std::vector<std::size_t> which = indices;
   if (which.empty()) {
     for (std::size_t i = 0; i < features.size(); ++i) which.push_back(i);
   }
   which.erase(std::remove_if(which.begin(), which.end(),
-                             [&](std::size_t i) { return !carries(features[i], options.metric) || !valid(features[i]); }),
+                             [&](std::size_t i) {
+                               return !carries(features[i].geometry, options.metric) || !valid(features[i].geometry);
+                             }),
               which.end());
   RankedCrs out;
   out.candidate = candidate;
@@ -394,7 +410,8 @@ RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geome
   auto work = [&](const Auditor& auditor, unsigned t) {
     for (std::size_t k = t; k < which.size(); k += threads) {
       const std::size_t i = which[k];
-      const AuditResult r = heights_m.empty() ? auditor.audit(features[i]) : auditor.audit(features[i], heights_m[i]);
+      const RankFeature& f = features[i];
+      const AuditResult r = f.height_m ? auditor.audit(f.geometry, *f.height_m) : auditor.audit(f.geometry);
       if (r.status != Status::ok) continue;
       value[k] = metric_value(r, options.metric);
       verdict[k] = r.verdict == Verdict::pass ? 1 : r.verdict == Verdict::fail ? -1 : 0;
@@ -435,21 +452,17 @@ RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<Geome
   return out;
 }
 
-RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                    const RankOptions& options) {
-  if (!heights_m.empty() && heights_m.size() != features.size()) {
-    throw Error(ErrorCode::invalid_argument, "give one height per feature, or none");
-  }
+RankReport rank_crs(const std::vector<RankFeature>& features, const RankOptions& options) {
   RankReport report;
   report.extent = extent_of(features);
   std::vector<std::size_t> usable;
   for (std::size_t i = 0; i < features.size(); ++i) {
-    if (!valid(features[i])) {
+    if (!valid(features[i].geometry)) {
       ++report.invalid;
       continue;
     }
     ++report.features;
-    if (carries(features[i], options.metric)) usable.push_back(i);
+    if (carries(features[i].geometry, options.metric)) usable.push_back(i);
   }
   if (usable.empty()) {
     throw Error(ErrorCode::invalid_argument,
@@ -461,7 +474,7 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
   // Screening: distortion factors at sample vertices, one PROJ context (cheap: no datum operations built).
   const CrsInfo source = describe_crs(options.source_crs);
   const std::vector<detail::ScreenPoint> points =
-      detail::screen_points(features, heights_m, source.ellipsoid, options.screen_points);
+      detail::screen_points(features, source.ellipsoid, options.screen_points);
   std::vector<std::pair<double, std::size_t>> screened;
   {
     detail::Context ctx = detail::make_context();
@@ -499,7 +512,7 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
     if (audited.size() >= leaders) break;
     if (!std::isfinite(score)) break;
     try {
-      RankedCrs r = audit_candidate(candidates[k], features, heights_m, sample, options);
+      RankedCrs r = detail::audit_candidate(candidates[k], features, sample, options);
       r.screen_ppm = score;
       r.sampled = sampling;
       audited.push_back(std::move(r));
@@ -513,7 +526,7 @@ RankReport rank_crs(const std::vector<Geometry>& features, const std::vector<dou
     const std::size_t n = std::min(options.full_reaudit, audited.size());
     std::vector<RankedCrs> full;
     for (std::size_t k = 0; k < n; ++k) {
-      RankedCrs r = audit_candidate(audited[k].candidate, features, heights_m, usable, options);
+      RankedCrs r = detail::audit_candidate(audited[k].candidate, features, usable, options);
       r.screen_ppm = audited[k].screen_ppm;
       full.push_back(std::move(r));
     }

@@ -1,4 +1,5 @@
-// Internal: the cheap screening of a candidate CRS by distortion factors at sample vertices (rank.cpp, tailor.cpp).
+// Internal: the cheap screening of a candidate CRS by distortion factors at sample vertices, and the exact audit of
+// one candidate (rank.cpp, tailor.cpp; tests/rank_test.cpp).
 #pragma once
 
 #include <proj.h>
@@ -20,8 +21,8 @@ struct ScreenPoint {
 
 /// Up to `count` vertices of the valid features, chosen deterministically: the extreme vertices in longitude and
 /// latitude first, then evenly spaced others in input order.
-std::vector<ScreenPoint> screen_points(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                                       const Ellipsoid& ellipsoid, std::size_t count);
+std::vector<ScreenPoint> screen_points(const std::vector<RankFeature>& features, const Ellipsoid& ellipsoid,
+                                       std::size_t count);
 
 /// The worst estimated |metric| (ppm, µrad) over the points for a CRS definition: length uses the larger of
 /// |a·e − 1| and |b·e − 1| (Tissot semi-axes a, b; elevation factor e), area |a·b·e² − 1|, shape ω, bearing
@@ -31,6 +32,11 @@ std::vector<ScreenPoint> screen_points(const std::vector<Geometry>& features, co
 /// left out (they change scale by far less than a ppm).
 double screen_definition(PJ_CONTEXT* ctx, const std::string& definition, const std::vector<ScreenPoint>& points,
                          RankMetric metric);
+
+/// Audits the features exactly in one candidate (indices: which features; empty = all): the valid features that
+/// carry options.metric, each at its own height when it has one.
+RankedCrs audit_candidate(const CandidateCrs& candidate, const std::vector<RankFeature>& features,
+                          const std::vector<std::size_t>& indices, const RankOptions& options);
 
 /// "+datum=WGS84" for a WGS 84 ellipsoid, "+ellps=GRS80" for GRS 1980, else "+a=… +rf=…" (or "+R=…").
 std::string proj_ellipsoid_terms(const Ellipsoid& ellipsoid);

@@ -214,11 +214,8 @@ ProjectionFamily parse_projection_family(std::string_view name) {
                   "': use albers, lambert-conic, transverse-mercator, azimuthal-equal-area or oblique-mercator");
 }
 
-TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector<double>& heights_m,
-                        ProjectionFamily family, const TailorOptions& options) {
-  if (!heights_m.empty() && heights_m.size() != features.size()) {
-    throw Error(ErrorCode::invalid_argument, "give one height per feature, or none");
-  }
+TailorResult tailor_crs(const std::vector<RankFeature>& features, ProjectionFamily family,
+                        const TailorOptions& options) {
   const RankOptions& ro = options.rank;
   const CrsInfo source = describe_crs(ro.source_crs);
   if (source.kind != CrsKind::geographic) {
@@ -227,7 +224,7 @@ TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector
   }
   const GeoExtent extent = extent_of(features);
   const std::vector<detail::ScreenPoint> points =
-      detail::screen_points(features, heights_m, source.ellipsoid, ro.screen_points);
+      detail::screen_points(features, source.ellipsoid, ro.screen_points);
   const std::string tail = " " + detail::proj_ellipsoid_terms(source.ellipsoid) + " +units=m +no_defs +type=crs";
   const Model model = make_model(family, extent, points, tail, options.optimise_scale);
 
@@ -239,7 +236,7 @@ TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector
   TailorResult out;
   out.family = family;
   out.invalid = static_cast<std::size_t>(
-      std::count_if(features.begin(), features.end(), [](const Geometry& g) { return !validate(g).empty(); }));
+      std::count_if(features.begin(), features.end(), [](const RankFeature& f) { return !validate(f.geometry).empty(); }));
   out.start_objective_ppm = objective(model.start);
   std::size_t used = 0;
   double best = kInf;
@@ -267,13 +264,13 @@ TailorResult tailor_crs(const std::vector<Geometry>& features, const std::vector
   }
   CandidateCrs cand{"tailored:" + std::string(to_string(family)), "Tailored " + std::string(to_string(family)), true,
                     out.proj_string, std::nullopt};
-  out.audit = audit_candidate(cand, features, heights_m, {}, ro);
+  out.audit = detail::audit_candidate(cand, features, {}, ro);
   out.audit.screen_ppm = best;
   if (options.compare_registry) {
     RankOptions registry = ro;
     registry.generated = false;
     try {
-      RankReport report = rank_crs(features, heights_m, registry);
+      RankReport report = rank_crs(features, registry);
       if (!report.ranked.empty()) out.best_registry = report.ranked.front();
     } catch (const Error&) {
       // No database CRS covers the extent: nothing to compare with.

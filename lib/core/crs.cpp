@@ -280,4 +280,22 @@ bool same_crs(const std::string& a, const std::string& b) {
                                         PJ_COMP_EQUIVALENT_EXCEPT_AXIS_ORDER_GEOGCRS) != 0;
 }
 
+std::string_view to_string(CrsKind kind) noexcept {
+  switch (kind) {
+    case CrsKind::geographic: return "geographic";
+    case CrsKind::projected: return "projected";
+    case CrsKind::geocentric: return "geocentric";
+    case CrsKind::other: return "other";
+  }
+  return "";
+}
+
+std::string_view to_string(CrsFileAccess access) noexcept {
+  switch (access) {
+    case CrsFileAccess::any: return "any";
+    case CrsFileAccess::data_directories: return "data_directories";
+  }
+  return "";
+}
+
 }  // namespace gridtruth

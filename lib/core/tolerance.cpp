@@ -220,4 +220,28 @@ std::string_view to_string(Verdict v) noexcept {
   return "";
 }
 
+std::string_view to_string(Metric metric) noexcept {
+  switch (metric) {
+    case Metric::area: return "area";
+    case Metric::length: return "length";
+    case Metric::bearing: return "bearing";
+  }
+  return "";
+}
+
+Metric parse_metric(std::string_view name) {
+  for (Metric m : {Metric::area, Metric::length, Metric::bearing}) {
+    if (name == to_string(m)) return m;
+  }
+  throw Error(ErrorCode::invalid_argument, "unknown metric '" + std::string(name) + "': use area, length or bearing");
+}
+
+std::string_view to_string(Tolerance::Kind kind) noexcept {
+  switch (kind) {
+    case Tolerance::Kind::relative_ppm: return "relative_ppm";
+    case Tolerance::Kind::absolute: return "absolute";
+  }
+  return "";
+}
+
 }  // namespace gridtruth

@@ -541,6 +541,25 @@ PlaneMulti ring_region(const Ring& ring) {
 
 }  // namespace
 
+std::string_view to_string(Problem::Code code) noexcept {
+  switch (code) {
+    case Problem::Code::non_finite: return "non_finite";
+    case Problem::Code::latitude_range: return "latitude_range";
+    case Problem::Code::longitude_range: return "longitude_range";
+    case Problem::Code::empty: return "empty";
+    case Problem::Code::too_few_vertices: return "too_few_vertices";
+    case Problem::Code::wrong_part_count: return "wrong_part_count";
+    case Problem::Code::self_intersection: return "self_intersection";
+    case Problem::Code::spike: return "spike";
+    case Problem::Code::rings_cross: return "rings_cross";
+    case Problem::Code::hole_outside: return "hole_outside";
+    case Problem::Code::nested_holes: return "nested_holes";
+    case Problem::Code::disconnected_interior: return "disconnected_interior";
+    case Problem::Code::parts_overlap: return "parts_overlap";
+  }
+  return "";
+}
+
 bool is_topology(Problem::Code code) noexcept {
   switch (code) {
     case Problem::Code::self_intersection:

@@ -183,7 +183,20 @@ struct FeatureReader::Impl {
   }
   /// Sniffs the format and makes its reader, once.
   void open_reader();
+  /// The next feature cut by the format's reader, numbered (`position`), or nothing at the end.
+  std::optional<std::pair<std::size_t, detail::CutFeature>> next_cut();
+  /// The InputFeature of a cut feature at `position` (FeatureReader::parse()).
+  InputFeature parse(detail::CutFeature& cut, std::size_t position) const;
 };
+
+RawFeature::RawFeature(std::size_t position, std::unique_ptr<detail::CutFeature> cut) noexcept
+    : position_(position), cut_(std::move(cut)) {}
+RawFeature::~RawFeature() = default;
+RawFeature::RawFeature(RawFeature&&) noexcept = default;
+RawFeature& RawFeature::operator=(RawFeature&&) noexcept = default;
+std::size_t RawFeature::line() const noexcept { return cut_ ? cut_->line : 0; }
+
+const detail::CutFeature& detail::cut_of(const RawFeature& raw) noexcept { return *raw.cut_; }
 
 FeatureReader::FeatureReader(std::istream& in, ReaderOptions options)
     : impl_(std::make_unique<Impl>(in, std::move(options))) {
@@ -296,40 +309,50 @@ std::string FeatureReader::declared_crs() {
   return impl_->reader->declared_crs();
 }
 
-std::optional<RawFeature> FeatureReader::next_raw() {
-  auto& s = *impl_;
-  if (s.done) return std::nullopt;
-  s.open_reader();
-  std::optional<RawFeature> raw;
+std::optional<std::pair<std::size_t, detail::CutFeature>> FeatureReader::Impl::next_cut() {
+  if (done) return std::nullopt;
+  open_reader();
+  std::optional<detail::CutFeature> cut;
   try {
-    raw = s.reader->next_raw();
+    cut = reader->next_raw();
   } catch (const Error& e) {
-    s.done = true;
+    done = true;
     throw Error(e.code(), detail::printable_text(e.what()));
   } catch (...) {
-    s.done = true;
+    done = true;
     throw;
   }
-  if (!raw) {
-    s.done = true;
+  if (!cut) {
+    done = true;
     return std::nullopt;
   }
-  raw->position = ++s.count;
-  auto& problems = s.reader->problems;
+  const std::size_t position = ++count;
+  auto& problems = reader->problems;
   if (!problems.empty() && problems.back().position == detail::FormatReader::row_pending)
-    problems.back().position = raw->position;
-  return raw;
+    problems.back().position = position;
+  return std::make_pair(position, std::move(*cut));
+}
+
+std::optional<RawFeature> FeatureReader::next_raw() {
+  auto cut = impl_->next_cut();
+  if (!cut) return std::nullopt;
+  return RawFeature(cut->first, std::make_unique<detail::CutFeature>(std::move(cut->second)));
 }
 
 InputFeature FeatureReader::parse(RawFeature raw) const {
+  if (!raw.cut_) throw Error(ErrorCode::invalid_argument, "FeatureReader::parse: a moved-from RawFeature");
+  return impl_->parse(*raw.cut_, raw.position_);
+}
+
+InputFeature FeatureReader::Impl::parse(detail::CutFeature& cut, std::size_t position) const {
   InputFeature feature;
-  if (raw.read) {
-    feature = std::move(*raw.read);
+  if (cut.read) {
+    feature = std::move(*cut.read);
   } else {
-    feature.line = raw.line;
-    detail::parse_json_feature(raw, impl_->options, feature);
+    feature.line = cut.line;
+    detail::parse_json_feature(cut, options, feature);
   }
-  feature.position = raw.position;
+  feature.position = position;
   if (feature.id.empty()) feature.id = std::to_string(feature.position);
   feature.error = detail::printable_text(feature.error);
   if (!feature.geometry && feature.error.empty()) feature.error = "no geometry";
@@ -342,9 +365,9 @@ InputFeature FeatureReader::parse(RawFeature raw) const {
 }
 
 std::optional<InputFeature> FeatureReader::next() {
-  std::optional<RawFeature> raw = next_raw();
-  if (!raw) return std::nullopt;
-  return parse(std::move(*raw));
+  auto cut = impl_->next_cut();  // no RawFeature (and its allocation) on the serial path
+  if (!cut) return std::nullopt;
+  return impl_->parse(cut->second, cut->first);
 }
 
 namespace detail {

@@ -128,10 +128,10 @@ class CsvReader final : public FormatReader {
  public:
   CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options), problems_(problems) {}
 
-  std::optional<RawFeature> next_raw() override {
+  std::optional<CutFeature> next_raw() override {
     std::optional<InputFeature> f = read();
     if (!f) return std::nullopt;
-    RawFeature raw;
+    CutFeature raw;
     raw.line = f->line;
     raw.read = std::move(f);
     return raw;

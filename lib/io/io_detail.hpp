@@ -80,12 +80,22 @@ class Source {
   bool at_end_ = false;
 };
 
-/// One format's reader. Implementations cut the next feature (RawFeature::text, or RawFeature::read for formats
-/// parsed as they are cut) and fill everything but `position`: the facade numbers the features.
+/// What a format's reader cuts out of the input for one feature (the payload of a RawFeature): either the feature's
+/// JSON text, parsed later (maybe on another thread), or the feature already read.
+struct CutFeature {
+  std::size_t line = 0;      ///< line where the feature starts (0 when not tracked)
+  std::string text;          ///< the feature's JSON text (GeoJSON, ndjson); empty when `read` holds the feature
+  std::optional<std::uint64_t> byte;  ///< 0-based offset of `text` in the input; absent when the text was rebuilt
+  bool line_in_messages = false;      ///< malformed-JSON messages start with "line N: " (ndjson)
+  std::optional<InputFeature> read;   ///< the feature, already read (CSV records, a truncated last feature)
+};
+
+/// One format's reader. Implementations cut the next feature (CutFeature::text, or CutFeature::read for formats
+/// parsed as they are cut); the facade numbers the features.
 class FormatReader {
  public:
   virtual ~FormatReader() = default;
-  virtual std::optional<RawFeature> next_raw() = 0;
+  virtual std::optional<CutFeature> next_raw() = 0;
 
   /// Spans skipped and damaged ends (FeatureReader::problems()). A reader that returns a feature standing for the
   /// span it just recorded sets `position` to row_pending; the facade puts the feature's position there.
@@ -106,9 +116,9 @@ bool spreadsheet_formula_start(std::string_view text);
 /// Parses a JSON feature cut by the GeoJSON or ndjson reader into `f` (which holds the line already): simdjson
 /// first, nlohmann-json where the exact nlohmann result needs it (malformed JSON, \u escapes, signed zeros).
 /// Thread-safe. Fills everything but `position` (and `id` when the input gives none).
-void parse_json_feature(const RawFeature& raw, const ReaderOptions& options, InputFeature& f);
+void parse_json_feature(const CutFeature& raw, const ReaderOptions& options, InputFeature& f);
 /// The same with nlohmann-json only (the reference the fast path must agree with; for tests).
-void parse_json_feature_reference(const RawFeature& raw, const ReaderOptions& options, InputFeature& f);
+void parse_json_feature_reference(const CutFeature& raw, const ReaderOptions& options, InputFeature& f);
 
 std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options);

@@ -472,7 +472,7 @@ bool feature_from_text_fast(const std::string& text, const ReaderOptions& option
   return true;
 }
 
-void finish_json_feature(const RawFeature& raw, InputFeature& f) {
+void finish_json_feature(const CutFeature& raw, InputFeature& f) {
   if (raw.line_in_messages && !f.error.empty() && f.error.rfind("malformed JSON", 0) == 0)
     f.error = "line " + std::to_string(f.line) + ": " + f.error;
 }
@@ -653,7 +653,7 @@ class GeoJsonReader final : public FormatReader {
     return crs_;
   }
 
-  std::optional<RawFeature> next_raw() override {
+  std::optional<CutFeature> next_raw() override {
     if (state_ == State::start) start();
     if (state_ == State::members) read_members();
     if (state_ == State::features) return next_feature();
@@ -786,14 +786,14 @@ class GeoJsonReader final : public FormatReader {
     }
     text += '}';
     members_.clear();
-    RawFeature f;
+    CutFeature f;
     f.line = 1;
     f.text = std::move(text);
     single_ = std::move(f);
     state_ = State::single;
   }
 
-  std::optional<RawFeature> next_feature() {
+  std::optional<CutFeature> next_feature() {
     skip_space(src_);
     int c = src_.peek();
     if (!first_element_) {
@@ -826,7 +826,7 @@ class GeoJsonReader final : public FormatReader {
     }
     if (c < 0) return damaged_end("the input ends inside the \"features\" array (truncated file?)");
     first_element_ = false;
-    RawFeature f;
+    CutFeature f;
     f.line = src_.line();
     const auto at = src_.offset();
     std::size_t depth = 0;
@@ -858,7 +858,7 @@ class GeoJsonReader final : public FormatReader {
   }
 
   /// The container ends badly after its last complete feature: recorded, no feature (none can be lost).
-  std::optional<RawFeature> damaged_end(std::string message) {
+  std::optional<CutFeature> damaged_end(std::string message) {
     InputProblem p;
     p.first_byte = p.end_byte = src_.offset();
     p.line = src_.line();
@@ -872,7 +872,7 @@ class GeoJsonReader final : public FormatReader {
   /// Finds the next plausible feature start (next_feature_start) in them or further on, puts the bytes from there
   /// back into the source and returns one invalid feature standing for the span skipped. Without a later feature,
   /// the span runs to a final "]}" that closes the array and the object, or else to the end of the input.
-  std::optional<RawFeature> resynchronise(std::uint64_t at, std::size_t line, std::string& consumed,
+  std::optional<CutFeature> resynchronise(std::uint64_t at, std::size_t line, std::string& consumed,
                                           const std::string& reason, Scan scan) {
     std::size_t found = next_feature_start(consumed, 1);
     if (found == std::string::npos && scan != Scan::end_of_input) {
@@ -921,7 +921,7 @@ class GeoJsonReader final : public FormatReader {
     skipped.line = line;
     skipped.error = p.message;
     problems_.push_back(std::move(p));
-    RawFeature f;
+    CutFeature f;
     f.line = line;
     f.read = std::move(skipped);
     return f;
@@ -933,7 +933,7 @@ class GeoJsonReader final : public FormatReader {
   std::optional<std::string> type_;
   std::string crs_;  // the top-level "crs" member's name (2008 GeoJSON), empty when none
   std::vector<std::pair<std::string, std::string>> members_;
-  std::optional<RawFeature> single_;
+  std::optional<CutFeature> single_;
   std::vector<InputProblem>& problems_;
   bool streamed_ = false;
   bool first_element_ = true;
@@ -946,13 +946,13 @@ class NdjsonReader final : public FormatReader {
     src_.skip_bom();
   }
 
-  std::optional<RawFeature> next_raw() override {
+  std::optional<CutFeature> next_raw() override {
     for (;;) {
       // Skip blank space between texts (blank lines are not features).
       while (is_json_space(src_.peek())) src_.get();
       const int c = src_.peek();
       if (c < 0) return std::nullopt;
-      RawFeature f;
+      CutFeature f;
       f.line_in_messages = true;
       f.line = src_.line();
       std::uint64_t at = src_.offset();
@@ -1004,12 +1004,12 @@ std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOpt
   return std::make_unique<NdjsonReader>(source, options);
 }
 
-void parse_json_feature(const RawFeature& raw, const ReaderOptions& options, InputFeature& f) {
+void parse_json_feature(const CutFeature& raw, const ReaderOptions& options, InputFeature& f) {
   if (!feature_from_text_fast(raw.text, options, f)) feature_from_text_reference(raw.text, raw.byte, options, f);
   finish_json_feature(raw, f);
 }
 
-void parse_json_feature_reference(const RawFeature& raw, const ReaderOptions& options, InputFeature& f) {
+void parse_json_feature_reference(const CutFeature& raw, const ReaderOptions& options, InputFeature& f) {
   feature_from_text_reference(raw.text, raw.byte, options, f);
   finish_json_feature(raw, f);
 }

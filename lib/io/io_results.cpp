@@ -5,6 +5,7 @@
 #include <string>
 #include <utility>
 
+#include "gridtruth/audit.hpp"
 #include "gridtruth/io.hpp"
 #include "io_detail.hpp"
 
@@ -167,11 +168,15 @@ void ResultCsvWriter::write_header() {
   *out_ << line_ending_;
 }
 
-void ResultCsvWriter::write_cells(const ResultRow& row) {
-  // One line built in one buffer (numbers appended in place), kept between rows: a row costs well under 1 µs.
-  std::string& line = line_;
+namespace {
+
+/// Writes one row as a CSV line: the table's cells (`columns` say their kinds), then the extra cells. `line` is the
+/// writer's buffer: one line built in one buffer (numbers appended in place), kept between rows, so a row costs well
+/// under 1 µs.
+void write_cells(std::ostream& out, std::string& line, const ResultRow& row, const std::vector<ResultColumn>& columns,
+                 bool all_digits, std::size_t extra_columns, const std::vector<std::string>& extra_cells,
+                 const std::string& line_ending) {
   line.clear();
-  const auto& columns = result_columns(combined_factor_, bounds_);
   for (std::size_t k = 0; k < row.size; ++k) {
     if (k) line += ',';
     const ResultCell& cell = row.cells[k];
@@ -187,27 +192,41 @@ void ResultCsvWriter::write_cells(const ResultRow& row) {
         }
         break;
       case ColumnKind::number:
-        if (all_digits_) detail::append_number(line, cell.number);
+        if (all_digits) detail::append_number(line, cell.number);
         else if (cell.is_bound) detail::append_bound(line, cell.number);
         else detail::append_number(line, cell.number, cell.bound);
         break;
     }
   }
-  for (std::size_t k = 0; k < extra_columns_.size(); ++k) {
+  for (std::size_t k = 0; k < extra_columns; ++k) {
     line += ',';
-    if (k < extra_cells_.size()) append_csv_field(line, extra_cells_[k]);
+    if (k < extra_cells.size()) append_csv_field(line, extra_cells[k]);
   }
-  line += line_ending_;
-  out_->write(line.data(), static_cast<std::streamsize>(line.size()));
+  line += line_ending;
+  out.write(line.data(), static_cast<std::streamsize>(line.size()));
 }
 
+}  // namespace
+
 void ResultCsvWriter::write_row(std::string_view id, const AuditResult& r) {
-  write_cells(result_row(id, r, combined_factor_, bounds_));
+  write_cells(*out_, line_, result_row(id, r, combined_factor_, bounds_), result_columns(combined_factor_, bounds_),
+              all_digits_, extra_columns_.size(), extra_cells_, line_ending_);
 }
 
 void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view message,
                                        std::optional<GeometryType> type) {
-  write_cells(unread_row(id, message, type, combined_factor_, bounds_));
+  write_cells(*out_, line_, unread_row(id, message, type, combined_factor_, bounds_),
+              result_columns(combined_factor_, bounds_), all_digits_, extra_columns_.size(), extra_cells_,
+              line_ending_);
+}
+
+std::string_view to_string(ColumnKind kind) noexcept {
+  switch (kind) {
+    case ColumnKind::text: return "text";
+    case ColumnKind::count: return "count";
+    case ColumnKind::number: return "number";
+  }
+  return "";
 }
 
 }  // namespace gridtruth

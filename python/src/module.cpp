@@ -17,6 +17,7 @@
 #include "gridtruth/runner.hpp"
 #include "gridtruth/tailor.hpp"
 #include "gridtruth/version.hpp"
+#include "audit/runner_detail.hpp"  // detail::unread_result (lib/ is on this module's private include path)
 
 namespace py = pybind11;
 using namespace gridtruth;
@@ -144,18 +145,11 @@ RankOptions rank_options(const py::dict& o) {
   return r;
 }
 
-/// The valid geometries of a sequence and their heights (rank and tailor ignore what cannot be read).
-struct RankInput {
-  std::vector<Geometry> geometries;
-  std::vector<double> heights_m;
-};
-
-RankInput rank_input(const py::iterable& geometries, const py::object& heights, unsigned threads) {
-  RankInput in;
+/// The readable geometries of a sequence with their heights (rank and tailor ignore what cannot be read).
+std::vector<RankFeature> rank_input(const py::iterable& geometries, const py::object& heights, unsigned threads) {
+  std::vector<RankFeature> in;
   for (InputFeature& f : features_of(geometries, heights, py::none(), threads)) {
-    if (!f.geometry) continue;
-    in.geometries.push_back(std::move(*f.geometry));
-    if (f.height_m) in.heights_m.push_back(*f.height_m);
+    if (f.geometry) in.push_back({std::move(*f.geometry), f.height_m});
   }
   return in;
 }
@@ -270,7 +264,7 @@ PYBIND11_MODULE(_core, m) {
           "audit",
           [](const Auditor& a, py::handle geometry, std::optional<double> height_m) {
             InputFeature f = python::feature_of(geometry);
-            if (!f.geometry) return unread_result(f);
+            if (!f.geometry) return detail::unread_result(f);
             py::gil_scoped_release release;
             return height_m ? a.audit(*f.geometry, *height_m) : a.audit(*f.geometry);
           },
@@ -376,11 +370,11 @@ PYBIND11_MODULE(_core, m) {
 
   m.def("rank", [](const py::iterable& geometries, const py::object& heights, const py::dict& options) {
     const RankOptions o = rank_options(options);
-    RankInput in = rank_input(geometries, heights, o.threads);
+    const std::vector<RankFeature> in = rank_input(geometries, heights, o.threads);
     RankReport report;
     {
       py::gil_scoped_release release;
-      report = rank_crs(in.geometries, in.heights_m, o);
+      report = rank_crs(in, o);
     }
     py::list rows;
     for (const RankedCrs& r : report.ranked) rows.append(ranked_dict(r));
@@ -395,11 +389,11 @@ PYBIND11_MODULE(_core, m) {
     if (options.contains("optimise_scale")) o.optimise_scale = options["optimise_scale"].cast<bool>();
     if (options.contains("compare_registry")) o.compare_registry = options["compare_registry"].cast<bool>();
     const ProjectionFamily f = parse_projection_family(family);
-    RankInput in = rank_input(geometries, heights, o.rank.threads);
+    const std::vector<RankFeature> in = rank_input(geometries, heights, o.rank.threads);
     TailorResult t;
     {
       py::gil_scoped_release release;
-      t = tailor_crs(in.geometries, in.heights_m, f, o);
+      t = tailor_crs(in, f, o);
     }
     py::dict d;
     d["family"] = std::string(to_string(t.family));

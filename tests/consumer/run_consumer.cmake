@@ -1,6 +1,7 @@
 # Driver of the consumer-build tests (cmake -P). One step per call, chosen by STEP:
 #   install           cmake --install BUILD_DIR into a fresh PREFIX and check what is there
-#   find_package      configure, build and run tests/consumer/find_package against PREFIX
+#   find_package      configure, build and run tests/consumer/find_package against PREFIX (also the matchers'
+#                     program, linked through gridtruth::testing)
 #   add_subdirectory  configure, build and run tests/consumer/add_subdirectory with the source tree
 #   pkg_config        compile consumer_main.cpp with `pkg-config --cflags --libs gridtruth` from PREFIX, run it
 # Inputs: SOURCE_DIR, BUILD_DIR, PREFIX, WORK_DIR, LIBDIR, VERSION, CONFIG, CXX, CXX_FLAGS, LINKER_FLAGS,
@@ -37,7 +38,8 @@ if(STEP STREQUAL "install")
   set(expected
       include/gridtruth/audit.hpp include/gridtruth/version.hpp include/gridtruth/testing.hpp
       ${LIBDIR}/cmake/gridtruth/gridtruthConfig.cmake ${LIBDIR}/cmake/gridtruth/gridtruthConfigVersion.cmake
-      ${LIBDIR}/cmake/gridtruth/gridtruthTargets.cmake ${LIBDIR}/pkgconfig/gridtruth.pc)
+      ${LIBDIR}/cmake/gridtruth/gridtruthTargets.cmake ${LIBDIR}/cmake/gridtruth/gridtruthTestingTargets.cmake
+      ${LIBDIR}/pkgconfig/gridtruth.pc)
   if(EXPECT_TOOL)
     list(APPEND expected bin/gridtruth)
   endif()
@@ -66,6 +68,11 @@ elseif(STEP STREQUAL "find_package")
   file(REMOVE_RECURSE ${WORK_DIR}/find_package)
   build_and_run(${SOURCE_DIR}/tests/consumer/find_package ${WORK_DIR}/find_package
                 -DCMAKE_PREFIX_PATH=${PREFIX} -DCMAKE_FIND_USE_PACKAGE_REGISTRY=OFF)
+  # gridtruth::testing: the matchers' test program, linked through the installed target.
+  run(${WORK_DIR}/find_package/consumer_testing)
+  if(NOT run_output MATCHES "PASSED")
+    message(FATAL_ERROR "consumer_testing did not pass:\n${run_output}")
+  endif()
 elseif(STEP STREQUAL "add_subdirectory")
   # Built without optimisation: this checks the wiring, and the library compiles twice as fast.
   set(CONFIG "")

@@ -62,10 +62,10 @@ class OgrReader final : public FormatReader {
     gdal_.OGR_L_ResetReading(layer_);
   }
 
-  std::optional<RawFeature> next_raw() override {
+  std::optional<CutFeature> next_raw() override {
     OgrFeature feature(gdal_.OGR_L_GetNextFeature(layer_));
     if (!feature) return std::nullopt;
-    RawFeature raw;
+    CutFeature raw;
     raw.read = read(feature.get());
     return raw;
   }
