@@ -463,8 +463,9 @@ class ReportCliTest : public ReportTest {
 
 TEST_F(ReportCliTest, GeojsonCarriesEveryCsvColumnAndTheCoordinatesAsRead) {
   // A tolerance some features fail (HU-02 is -799.6 ppm): their message names it, alike in both outputs.
-  const int status = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.05%", "--out",
-                            path("rows.csv"), "--geojson", path("out.geojson")});
+  // The CSV in full (--all-digits): the GeoJSON holds the doubles themselves, the CSV rounds them by default.
+  const int status = audit({demo_geojson, "--crs", "EPSG:32615", "--tolerance", "area=0.05%", "--all-digits",
+                            "--out", path("rows.csv"), "--geojson", path("out.geojson")});
   EXPECT_EQ(status, 1) << slurp(path("stderr"));  // the demo holds an invalid feature and failures
   const auto rows = parse_csv(slurp(path("rows.csv")));
   ASSERT_GE(rows.size(), 2u);
@@ -520,8 +521,9 @@ TEST_F(ReportCliTest, GeojsonCarriesTheBoundColumnsOnlyWhenAsked) {
   // properties carry the same values under the same names, after the other audit properties, and neither has
   // them without --bounds.
   // Exit status 1: the demo holds an invalid feature.
-  ASSERT_LE(audit({demo_geojson, "--crs", "EPSG:32615", "--bounds", "--out", path("rows.csv"), "--geojson",
-                   path("out.geojson")}), 1)
+  // The CSV in full (--all-digits): the GeoJSON holds the doubles themselves.
+  ASSERT_LE(audit({demo_geojson, "--crs", "EPSG:32615", "--bounds", "--all-digits", "--out", path("rows.csv"),
+                   "--geojson", path("out.geojson")}), 1)
       << slurp(path("stderr"));
   const auto rows = parse_csv(slurp(path("rows.csv")));
   ASSERT_GE(rows.size(), 2u);

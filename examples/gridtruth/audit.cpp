@@ -322,7 +322,6 @@ class AuditOutputs {
                          parse_geojson_coordinates(args_.geojson_crs));
       });
       geojson_->with_combined_factor(plan_.with_heights);
-      geojson_->with_all_digits(args_.all_digits);
       geojson_->with_bounds(args_.bounds);
     }
     if (!args_.gpkg.empty()) {

@@ -115,9 +115,12 @@ std::string_view to_string(GeoJsonCoordinates coordinates) noexcept;
 /// Parses the names of to_string(); throws Error(invalid_argument) otherwise.
 GeoJsonCoordinates parse_geojson_coordinates(std::string_view name);
 
+struct ResultRow;  // gridtruth/io.hpp
+
 /// Writes the input features as one GeoJSON FeatureCollection (RFC 7946), streaming: the coordinates as
 /// GeoJsonCoordinates says, and as properties every column ResultCsvWriter writes for the feature, under the same
-/// names: numbers as JSON numbers, empty cells as null, text as strings. The input's own attributes
+/// names: numbers as JSON numbers holding the doubles in full (as the GeoPackage; the CSV rounds each figure to its
+/// bound), empty cells as null, text as strings. The input's own attributes
 /// (InputFeature::properties_json) come first; one whose name is also a column's is kept as "input_<name>".
 /// A feature with a vertex PROJ cannot transform gets a null geometry and the property "geometry_note" saying so.
 class ResultGeoJsonWriter {
@@ -132,8 +135,6 @@ class ResultGeoJsonWriter {
                       GeoJsonCoordinates coordinates = GeoJsonCoordinates::wgs84);
   /// Adds the `combined_factor` property, as ResultCsvWriter::with_combined_factor().
   void with_combined_factor(bool on) noexcept { combined_factor_ = on; }
-  /// Numbers in full, as ResultCsvWriter::with_all_digits() (default: each figure rounded to its bound).
-  void with_all_digits(bool on) noexcept { all_digits_ = on; }
   /// Adds the 14 bound properties (Budget::*_bound, named as result_columns()'s `bounds`; null where a bound does
   /// not apply or cannot be given), after every other audit property, as ResultCsvWriter::with_bounds().
   void with_bounds(bool on) noexcept { bounds_ = on; }
@@ -150,13 +151,12 @@ class ResultGeoJsonWriter {
   ResultGeoJsonWriter& operator=(const ResultGeoJsonWriter&) = delete;
 
  private:
-  void write_properties(std::string_view id, const std::string& csv_row, std::string_view input_properties_json,
+  void write_properties(std::string_view id, const ResultRow& row, std::string_view input_properties_json,
                         const char* geometry_note = nullptr);
   struct Transform;
   std::unique_ptr<Transform> transform_;  // source CRS → WGS 84 longitude/latitude; null: coordinates as read
   std::ostream* out_;
   bool combined_factor_ = false;
-  bool all_digits_ = false;
   bool bounds_ = false;
   bool first_ = true;
   bool finished_ = false;

@@ -23,29 +23,6 @@ namespace gridtruth {
 namespace {
 
 /// Splits one RFC 4180 record (as ResultCsvWriter writes it, without its line ending) into fields.
-std::vector<std::string> split_csv_record(const std::string& line) {
-  std::vector<std::string> fields;
-  std::string field;
-  bool quoted = false;
-  for (std::size_t k = 0; k < line.size(); ++k) {
-    const char c = line[k];
-    if (quoted) {
-      if (c == '"' && k + 1 < line.size() && line[k + 1] == '"') field += '"', ++k;
-      else if (c == '"') quoted = false;
-      else field += c;
-    } else if (c == '"') {
-      quoted = true;
-    } else if (c == ',') {
-      fields.push_back(std::move(field));
-      field.clear();
-    } else {
-      field += c;
-    }
-  }
-  fields.push_back(std::move(field));
-  return fields;
-}
-
 void write_position(std::ostream& o, const Coord& c) {
   const std::string x = format_number(c.x), y = format_number(c.y);
   o << '[' << (x.empty() ? "null" : x) << ',' << (y.empty() ? "null" : y) << ']';
@@ -166,38 +143,28 @@ void ResultGeoJsonWriter::finish() {
   *out_ << "\n]}\n";
 }
 
-void ResultGeoJsonWriter::write_properties(std::string_view id, const std::string& csv_row,
+void ResultGeoJsonWriter::write_properties(std::string_view id, const ResultRow& row,
                                            std::string_view input_properties_json, const char* geometry_note) {
-  static const std::vector<std::string> text_columns = {"id", "geometry_type", "status", "message", "verdict"};
-  std::vector<std::string> names;
-  for (const ResultColumn& c : result_columns(combined_factor_, bounds_)) names.emplace_back(c.name);
-  const std::vector<std::string> fields = split_csv_record(csv_row);
+  // The result table's cells as they are (doubles in full, as the GeoPackage holds them; the CSV is the table
+  // rounded for reading), after the input's own attributes (renamed input_<name> where they clash).
+  const auto& columns = result_columns(combined_factor_, bounds_);
   nlohmann::ordered_json props = nlohmann::ordered_json::object();
   if (!input_properties_json.empty()) {
     const auto input = nlohmann::ordered_json::parse(input_properties_json, nullptr, false);
     if (input.is_object()) {
       for (const auto& [key, value] : input.items()) {
-        const bool clash = std::find(names.begin(), names.end(), key) != names.end();
+        const bool clash = std::any_of(columns.begin(), columns.end(), [&](const ResultColumn& c) { return c.name == key; });
         props[clash ? "input_" + key : key] = value;
       }
     }
   }
-  for (std::size_t k = 0; k < names.size(); ++k) {
-    const std::string cell = k < fields.size() ? fields[k] : std::string();
-    if (std::find(text_columns.begin(), text_columns.end(), names[k]) != text_columns.end()) {
-      props[names[k]] = cell;
-    } else if (cell.empty()) {
-      props[names[k]] = nullptr;
-    } else {
-      char* end = nullptr;
-      const double v = std::strtod(cell.c_str(), &end);
-      if (end && *end == '\0' && std::isfinite(v)) {
-        if (names[k] == "vertices") props[names[k]] = static_cast<std::uint64_t>(v);
-        else props[names[k]] = v;
-      } else {
-        props[names[k]] = cell;
-      }
-    }
+  for (std::size_t k = 0; k < columns.size() && k < row.size; ++k) {
+    const std::string name(columns[k].name);
+    const ResultCell& cell = row.cells[k];
+    if (columns[k].kind == ColumnKind::text) props[name] = std::string(cell.text);
+    else if (!std::isfinite(cell.number)) props[name] = nullptr;
+    else if (columns[k].kind == ColumnKind::count) props[name] = static_cast<std::uint64_t>(cell.number);
+    else props[name] = cell.number;
   }
   if (geometry_note) props["geometry_note"] = geometry_note;
   *out_ << (first_ ? "\n" : ",\n") << "{\"type\":\"Feature\",\"id\":" << nlohmann::json(std::string(id)).dump()
@@ -207,20 +174,15 @@ void ResultGeoJsonWriter::write_properties(std::string_view id, const std::strin
 
 void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geometry, const AuditResult& result,
                                         std::string_view input_properties_json) {
-  std::ostringstream row;
-  ResultCsvWriter csv(row, "");
-  csv.with_combined_factor(combined_factor_);
-  csv.with_bounds(bounds_);
-  csv.with_all_digits(all_digits_);
-  csv.write_row(id, result);
+  const ResultRow row = result_row(id, result, combined_factor_, bounds_);
   if (!transform_) {
-    write_properties(id, row.str(), input_properties_json);
+    write_properties(id, row, input_properties_json);
     write_geometry(*out_, geometry);
   } else if (Geometry lonlat = geometry; transform_->apply(lonlat)) {
-    write_properties(id, row.str(), input_properties_json);
+    write_properties(id, row, input_properties_json);
     write_geometry(*out_, lonlat);
   } else {
-    write_properties(id, row.str(), input_properties_json,
+    write_properties(id, row, input_properties_json,
                      "a vertex could not be transformed to WGS 84 longitude/latitude (RFC 7946)");
     *out_ << "null";
   }
@@ -229,13 +191,7 @@ void ResultGeoJsonWriter::write_feature(std::string_view id, const Geometry& geo
 
 void ResultGeoJsonWriter::write_unread(std::string_view id, std::string_view message,
                                        std::optional<GeometryType> type, std::string_view input_properties_json) {
-  std::ostringstream row;
-  ResultCsvWriter csv(row, "");
-  csv.with_combined_factor(combined_factor_);
-  csv.with_bounds(bounds_);
-  csv.with_all_digits(all_digits_);
-  csv.write_unread_row(id, message, type);
-  write_properties(id, row.str(), input_properties_json);
+  write_properties(id, unread_row(id, message, type, combined_factor_, bounds_), input_properties_json);
   *out_ << "null}";
 }
 
