@@ -24,6 +24,7 @@
 #include <string>
 #include <vector>
 
+#include "audit_run.hpp"
 #include "audit_summary.hpp"
 #include "commands.hpp"
 #include "output_file.hpp"
@@ -41,121 +42,10 @@ using namespace gridtruth;
 using cli::exit_findings;
 using cli::exit_ok;
 using cli::fail_run;
+using cli::AuditArgs;
+using cli::AuditOutputs;
+using cli::AuditPlan;
 
-struct AuditArgs {
-  std::string input;
-  std::string target_crs;
-  std::string source_crs;  // empty: the input's own CRS, else EPSG:4326
-  std::string layer;
-  std::string area_of_use_margin = "5";
-  std::string datum_op;  // empty: PROJ's choice per feature
-  double height_m = 0;
-  std::string height_field;
-  std::string edges;
-  std::string tolerance;
-  double densify_tolerance_m = 0.001;
-  std::string id_field;
-  std::string wkt_field = "wkt";
-  std::string out;
-  std::string summary;
-  std::string report;
-  std::string geojson;
-  std::string geojson_crs = "wgs84";
-  std::string gpkg;
-  std::string units = "metric";
-  std::string keep_fields;  // "a,b" or "all"
-  std::string format = "auto";
-  unsigned threads = 0;
-  bool repair = false;
-  bool bounds = false;
-  bool height_from_z = false;
-  bool all_digits = false;
-};
-
-/// The GeoPackage layer's name: the file's name without its directory and extension ("audit" if that is empty).
-std::string gpkg_layer_name(const std::string& path) {
-  std::string name = path.substr(path.rfind('/') == std::string::npos ? 0 : path.rfind('/') + 1);
-  if (const auto dot = name.rfind('.'); dot != std::string::npos && dot > 0) name.erase(dot);
-  return name.empty() ? std::string("audit") : name;
-}
-
-/// The CSV's columns after the audit table's: the lengths and areas in the --units unit, then the input
-/// attributes --keep-fields names (a name an audit column has is kept as input_<name>, as --geojson does).
-class ExtraColumns {
- public:
-  /// `keep`: "" (none), "all" (the attributes of `first`, the first feature read) or comma-separated names.
-  ExtraColumns(const cli::SummaryUnits& units, const std::string& keep, const InputFeature* first,
-               bool combined_factor, bool all_digits)
-      : all_digits_(all_digits) {
-    auto suffix = [](const std::string& symbol) {
-      if (symbol == "ac") return std::string("ac");
-      if (symbol == "acUS") return std::string("us_ac");
-      if (symbol == "ftUS") return std::string("us_ft");
-      return symbol;  // "ha", "ft"
-    };
-    if (units.length_m != 1) {
-      length_m_ = units.length_m;
-      for (const char* base : {"true_length_", "grid_length_", "length_error_"})
-        names_.push_back(base + suffix(units.length_unit));
-    }
-    if (units.area_m2 != 1) {
-      area_m2_ = units.area_m2;
-      for (const char* base : {"true_area_", "grid_area_", "area_error_"}) names_.push_back(base + suffix(units.area_unit));
-    }
-    std::vector<std::string> fields;
-    if (keep == "all") {
-      if (first && !first->properties_json.empty()) {
-        const auto properties = nlohmann::ordered_json::parse(first->properties_json, nullptr, false);
-        if (properties.is_object())
-          for (const auto& item : properties.items()) fields.push_back(item.key());
-      }
-    } else {
-      for (std::size_t start = 0; start <= keep.size() && !keep.empty();) {
-        const std::size_t comma = std::min(keep.find(',', start), keep.size());
-        if (comma > start) fields.push_back(keep.substr(start, comma - start));
-        start = comma + 1;
-      }
-    }
-    const auto& columns = result_columns(combined_factor);
-    for (const std::string& field : fields) {
-      bool clash = std::find(names_.begin(), names_.end(), field) != names_.end();
-      for (const ResultColumn& c : columns) clash = clash || c.name == field;
-      keys_.push_back(field);
-      names_.push_back(clash ? "input_" + field : field);
-    }
-  }
-  const std::vector<std::string>& names() const { return names_; }
-
-  /// The extra cells of one row (`result` null: a feature that could not be read).
-  void cells(const InputFeature& feature, const AuditResult* result, std::vector<std::string>& out) const {
-    out.clear();
-    auto budget = [&](const std::optional<Budget>& b, double unit) {
-      if (!b) return out.resize(out.size() + 3);
-      // Rounded as the SI columns are: each to a tenth of its bound (in the unit), unless --all-digits.
-      for (const auto& [v, bound] : {std::pair{b->reference, b->reference_bound}, std::pair{b->grid, b->grid_bound},
-                                     std::pair{b->error, b->error_computation_bound}})
-        out.push_back(all_digits_ ? format_number(v / unit) : format_number(v / unit, bound / unit));
-    };
-    if (length_m_) budget(result ? result->length : std::nullopt, length_m_);
-    if (area_m2_) budget(result ? result->area : std::nullopt, area_m2_);
-    if (keys_.empty()) return;
-    const auto properties = feature.properties_json.empty()
-                                ? nlohmann::ordered_json()
-                                : nlohmann::ordered_json::parse(feature.properties_json, nullptr, false);
-    for (const std::string& key : keys_) {
-      const auto found = properties.is_object() ? properties.find(key) : properties.end();
-      if (!properties.is_object() || found == properties.end() || found->is_null()) out.emplace_back();
-      else if (found->is_string()) out.push_back(found->get<std::string>());
-      else if (found->is_number_float()) out.push_back(format_number(found->get<double>()));
-      else out.push_back(found->dump());
-    }
-  }
-
- private:
-  std::vector<std::string> names_, keys_;
-  double length_m_ = 0, area_m2_ = 0;  // 0: no such columns
-  bool all_digits_ = false;
-};
 
 /// "Progress" on standard error, only for a terminal and only once the run has taken more than a second.
 class Progress {
@@ -183,14 +73,6 @@ class Progress {
   std::chrono::steady_clock::time_point start_, last_{};
 };
 
-/// What the options ask for, checked before anything is read.
-struct AuditPlan {
-  AuditOptions options;
-  ReaderOptions reader_options;
-  cli::SummaryUnits units;
-  bool report_html = false;   // --report names an .html (or .htm) file, else an .svg one
-  bool with_heights = false;  // --height or --height-field: the rows carry combined_factor
-};
 
 /// Whether `s` ends with `tail` (lower case), ignoring the case of `s`.
 bool ends_with_lower(const std::string& s, const std::string& tail) {
@@ -277,122 +159,8 @@ std::string open_input(const AuditArgs& args, const std::string& input_name, Aud
   return "";
 }
 
-/// The GeoPackage (GDAL) and the GeoJSON transformation (PROJ): their errors are an output's, not the input's.
-template <typename Write>
-void as_output_error(Write write) {
-  try {
-    write();
-  } catch (const Error& e) {
-    throw cli::OutputError(e.what());
-  }
-}
 
-/// The audit's outputs: the CSV rows, and the summary, picture, GeoJSON and GeoPackage the options ask for. The
-/// files are opened when the first feature has been read, so that an unreadable input leaves nothing behind; each
-/// is written under a temporary name and renamed into place once all are complete (output_file.hpp). Write
-/// errors are cli::OutputError.
-class AuditOutputs {
- public:
-  AuditOutputs(const AuditArgs& args, const AuditPlan& plan, const Auditor& auditor, const std::string& input_name)
-      : args_(args), plan_(plan) {
-    if (args.report.empty()) return;
-    ReportOptions report_options;
-    report_options.input_name = input_name;
-    report_options.length_unit = plan.units.length_unit;
-    report_options.area_unit = plan.units.area_unit;
-    report_options.length_unit_m = plan.units.length_m;
-    report_options.area_unit_m2 = plan.units.area_m2;
-    report_options.caution = cli::caution_text;
-    report_.emplace(auditor, report_options);
-  }
-
-  bool opened() const { return writer_.has_value(); }
-  const cli::AuditSummary& summary() const { return summary_; }
-
-  /// Opens every file and writes the CSV header; `first`: the first feature read (--keep-fields all), or null.
-  void open(const InputFeature* first) {
-    out_file_ = std::make_unique<cli::OutputFile>(args_.out);
-    if (!args_.summary.empty()) summary_file_ = std::make_unique<cli::OutputFile>(args_.summary);
-    // The picture and the GeoJSON: opened now too, so that an unwritable path stops the run before any work.
-    if (!args_.report.empty()) report_file_ = std::make_unique<cli::OutputFile>(args_.report);
-    if (!args_.geojson.empty()) {
-      geojson_file_ = std::make_unique<cli::OutputFile>(args_.geojson);
-      as_output_error([&] {
-        geojson_.emplace(geojson_file_->stream(), plan_.options.source_crs,
-                         parse_geojson_coordinates(args_.geojson_crs));
-      });
-      geojson_->with_combined_factor(plan_.with_heights);
-      geojson_->with_bounds(args_.bounds);
-    }
-    if (!args_.gpkg.empty()) {
-      gpkg_file_ = cli::OutputFile::for_named_writer(args_.gpkg, ".gpkg");
-      as_output_error([&] {
-        gpkg_.emplace(gpkg_file_->temp_path(), plan_.options.source_crs, gpkg_layer_name(args_.gpkg));
-        gpkg_->with_combined_factor(plan_.with_heights);
-      });
-    }
-    writer_.emplace(out_file_->stream());
-    writer_->with_combined_factor(plan_.with_heights);
-    writer_->with_all_digits(args_.all_digits);
-    writer_->with_bounds(args_.bounds);
-    extra_.emplace(plan_.units, args_.keep_fields, first, plan_.with_heights, args_.all_digits);
-    writer_->with_extra_columns(extra_->names());
-    writer_->write_header();
-  }
-
-  /// One feature that was read (its geometry is set) and its result.
-  void add(const InputFeature& feature, const AuditResult& result) {
-    // One result for every output: its message already names the failed tolerances (the library sets it).
-    extra_->cells(feature, &result, writer_->extra_cells());
-    writer_->write_row(feature.id, result);
-    if (gpkg_)
-      as_output_error([&] { gpkg_->write_feature(feature.id, *feature.geometry, result, feature.properties_json); });
-    summary_.add(feature, result);
-    if (report_) report_->add(feature.id, *feature.geometry, result);
-    if (geojson_) geojson_->write_feature(feature.id, *feature.geometry, result, feature.properties_json);
-  }
-
-  /// One feature that could not be read: an invalid row naming the reason.
-  void add_unread(const InputFeature& feature) {
-    extra_->cells(feature, nullptr, writer_->extra_cells());
-    writer_->write_unread_row(feature.id, feature.error, feature.declared_type);
-    summary_.add_unread(feature);
-    if (report_) report_->add_unread(feature.id);
-    if (geojson_) geojson_->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
-    if (gpkg_)
-      as_output_error([&] {
-        gpkg_->write_unread(feature.id, feature.error, feature.declared_type, feature.properties_json);
-      });
-  }
-
-  /// Completes every file, then renames them into place: none is, unless all could be completed.
-  void finish(const cli::AuditSummary::Context& context) {
-    if (geojson_) geojson_->finish();
-    if (gpkg_) as_output_error([&] { gpkg_->finish(); });
-    if (report_) {
-      if (plan_.report_html) report_->write_html(report_file_->stream());
-      else report_->write_svg(report_file_->stream());
-    }
-    if (summary_file_) summary_file_->stream() << summary_.to_json(context).dump(2) << "\n";
-    for (auto* file : {&out_file_, &geojson_file_, &gpkg_file_, &report_file_, &summary_file_})
-      if (*file) (*file)->finish();
-    for (auto* file : {&out_file_, &geojson_file_, &gpkg_file_, &report_file_, &summary_file_})
-      if (*file) (*file)->commit();
-  }
-
- private:
-  const AuditArgs& args_;
-  const AuditPlan& plan_;
-  cli::AuditSummary summary_;
-  std::optional<ReportCollector> report_;
-  std::unique_ptr<cli::OutputFile> out_file_, summary_file_, report_file_, geojson_file_, gpkg_file_;
-  std::optional<ResultCsvWriter> writer_;
-  std::optional<ResultGeoJsonWriter> geojson_;
-  std::optional<ResultGeoPackageWriter> gpkg_;
-  std::optional<ExtraColumns> extra_;
-};
-
-int run_audit(const AuditArgs& args) {
+int run_audit_command(const AuditArgs& args) {
   AuditPlan plan;
   if (const std::string problem = plan_audit(args, plan); !problem.empty()) return fail_run(problem);
   const std::string input_name = args.input == "-" ? std::string("standard input") : args.input;
@@ -533,14 +301,8 @@ const char* audit_footer =
     "  gridtruth audit lots.csv --source-crs EPSG:2227 --crs EPSG:2227 --height-field elev_m\n"
     "\n";
 
-}  // namespace
-
-namespace gridtruth::cli {
-
-Command set_up_audit(CLI::App& app) {
-  auto shared = std::make_shared<AuditArgs>();
-  AuditArgs& args = *shared;
-  CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
+/// The options of what is read: the input, the CRSs, the heights.
+void add_input_options(CLI::App* audit, AuditArgs& args) {
   audit->add_option("INPUT", args.input, "GeoJSON, newline-delimited GeoJSON or CSV with WKT; '-' for standard input")
       ->required();
   audit->add_option("--crs", args.target_crs, "target projected CRS: EPSG:XXXX, WKT, PROJJSON or a PROJ string")
@@ -560,6 +322,10 @@ Command set_up_audit(CLI::App& app) {
                   "metres; GeoJSON altitude, WKT Z, 3D layers); a feature with a position lacking Z is invalid")
       ->excludes(audit->get_option("--height"))
       ->excludes(audit->get_option("--height-field"));
+}
+
+/// The options of how it is measured and judged.
+void add_method_options(CLI::App* audit, AuditArgs& args) {
   audit->add_option("--edges", args.edges,
                     "what an edge means: geodesic (default for geographic input), rhumb, or straight-in=CRS "
                     "(default for projected input: straight in the source CRS)");
@@ -584,6 +350,10 @@ Command set_up_audit(CLI::App& app) {
                     "pin the datum transformation for a reproducible run: AUTH:CODE of PROJ's database (e.g. "
                     "EPSG:1173) or a PROJ pipeline from source lon/lat to the target; default: per feature, the one "
                     "PROJ applies at the centre of its bounding box");
+}
+
+/// The options of the ids and the outputs.
+void add_output_options(CLI::App* audit, AuditArgs& args) {
   audit->add_option("--id-field", args.id_field, "property or column that holds the feature id");
   audit->add_option("--wkt-field", args.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
   audit->add_option("--out", args.out, "write the CSV rows to this file instead of standard output");
@@ -613,12 +383,25 @@ Command set_up_audit(CLI::App& app) {
       ->capture_default_str();
   audit->add_option("--threads", args.threads, "worker threads; 0 uses every hardware thread")
       ->capture_default_str();
+}
+
+}  // namespace
+
+namespace gridtruth::cli {
+
+Command set_up_audit(CLI::App& app) {
+  auto shared = std::make_shared<AuditArgs>();
+  AuditArgs& args = *shared;
+  CLI::App* audit = app.add_subcommand("audit", audit_summary_line);
+  add_input_options(audit, args);
+  add_method_options(audit, args);
+  add_output_options(audit, args);
   cli::add_trusted_crs_flag(audit);
   audit->footer(std::string(audit_footer) + cli::caution_text + "\n");
   // An exception escaping the run is a bug: say so (the other commands' reach main() as their reason).
   auto run = [shared] {
     try {
-      return run_audit(*shared);
+      return run_audit_command(*shared);
     } catch (const std::exception& e) {
       return fail_run(std::string("internal error: ") + e.what());
     }

@@ -60,53 +60,56 @@ std::vector<std::string> AuditSummary::datum_warnings(const Auditor& a) const {
   return a.datum_warnings(used);
 }
 
+/// The auditor's part of the JSON summary: the CRSs, the datum transformation and its candidates, the options.
+void AuditSummary::add_auditor_json(nlohmann::ordered_json& j, const Auditor& a) const {
+  using json = nlohmann::ordered_json;
+  j["source_crs"] = crs_json(a.source());
+  j["target_crs"] = crs_json(a.target());
+  const TransformInfo& t = a.transform();
+  j["datum_transformation"] = {{"name", t.name},
+                               {"accuracy_m", t.accuracy_m ? json(*t.accuracy_m) : json(nullptr)},
+                               {"is_identity", t.is_identity},
+                               {"is_ballpark", t.is_ballpark},
+                               {"proj_string", t.proj_string}};
+  json candidates = json::array();
+  const auto& ops = a.datum_operations();
+  for (std::size_t i = 0; i < ops.size(); ++i) {
+    const DatumOperation& d = ops[i];
+    const auto used = stats_.datum_use().find(i);
+    json area = nullptr;
+    if (d.area) {
+      area = {{"name", d.area->name}, {"west_deg", d.area->west_deg}, {"south_deg", d.area->south_deg},
+              {"east_deg", d.area->east_deg}, {"north_deg", d.area->north_deg}};
+    }
+    candidates.push_back({{"name", d.name},
+                          {"accuracy_m", d.accuracy_m ? json(*d.accuracy_m) : json(nullptr)},
+                          {"is_ballpark", d.is_ballpark},
+                          {"grids_available", d.grids_available},
+                          {"missing_grids", d.missing_grids},
+                          {"usable", d.usable},
+                          {"area_of_use", area},
+                          {"features", used == stats_.datum_use().end() ? 0 : used->second}});
+  }
+  // Beside "datum_transformation" (the Python package's summary() mirrors that one): what PROJ offered.
+  j["datum_operations"] = {
+      {"pinned", a.options().datum_operation.empty() ? json(nullptr) : json(a.options().datum_operation)},
+      {"candidates", candidates},
+      {"warnings", datum_warnings(a)}};
+  j["edges"] = a.edges().to_string();
+  json tolerances = json::array();
+  for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());  // canonical for machines (as the Python summary)
+  j["options"] = {{"height_m", a.options().height_m},
+                  {"densify_tolerance_m", a.options().densify_tolerance_m},
+                  {"tolerances", tolerances}};
+}
+
 nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
   using json = nlohmann::ordered_json;
   const SummaryUnits& u = c.units;
   json j;
   j["input"] = c.input;
   j["format"] = std::string(to_string(c.format));
-  if (c.auditor) {
-    const Auditor& a = *c.auditor;
-    j["source_crs"] = crs_json(a.source());
-    j["target_crs"] = crs_json(a.target());
-    const TransformInfo& t = a.transform();
-    j["datum_transformation"] = {{"name", t.name},
-                                 {"accuracy_m", t.accuracy_m ? json(*t.accuracy_m) : json(nullptr)},
-                                 {"is_identity", t.is_identity},
-                                 {"is_ballpark", t.is_ballpark},
-                                 {"proj_string", t.proj_string}};
-    json candidates = json::array();
-    const auto& ops = a.datum_operations();
-    for (std::size_t i = 0; i < ops.size(); ++i) {
-      const DatumOperation& d = ops[i];
-      const auto used = stats_.datum_use().find(i);
-      json area = nullptr;
-      if (d.area) {
-        area = {{"name", d.area->name}, {"west_deg", d.area->west_deg}, {"south_deg", d.area->south_deg},
-                {"east_deg", d.area->east_deg}, {"north_deg", d.area->north_deg}};
-      }
-      candidates.push_back({{"name", d.name},
-                            {"accuracy_m", d.accuracy_m ? json(*d.accuracy_m) : json(nullptr)},
-                            {"is_ballpark", d.is_ballpark},
-                            {"grids_available", d.grids_available},
-                            {"missing_grids", d.missing_grids},
-                            {"usable", d.usable},
-                            {"area_of_use", area},
-                            {"features", used == stats_.datum_use().end() ? 0 : used->second}});
-    }
-    // Beside "datum_transformation" (the Python package's summary() mirrors that one): what PROJ offered.
-    j["datum_operations"] = {
-        {"pinned", a.options().datum_operation.empty() ? json(nullptr) : json(a.options().datum_operation)},
-        {"candidates", candidates},
-        {"warnings", datum_warnings(a)}};
-    j["edges"] = a.edges().to_string();
-    json tolerances = json::array();
-    for (const auto& tol : a.options().tolerances) tolerances.push_back(tol.to_string());  // canonical for machines (as the Python summary)
-    j["options"] = {{"height_m", a.options().height_m},
-                    {"densify_tolerance_m", a.options().densify_tolerance_m},
-                    {"tolerances", tolerances}};
-  }
+  if (c.auditor) add_auditor_json(j, *c.auditor);
   j["units"] = {{"name", u.name},
                 {"length_unit", u.length_unit},
                 {"area_unit", u.area_unit},
@@ -161,54 +164,56 @@ nlohmann::ordered_json AuditSummary::to_json(const Context& c) const {
   return j;
 }
 
+/// The auditor's part of the text summary: the CRSs, the datum transformation(s) used, the edges, the tolerances.
+void AuditSummary::add_auditor_text(std::ostringstream& s, const Auditor& a) const {
+  auto crs_line = [](const CrsInfo& crs) {
+    std::string line = crs.name;
+    if (!crs.id.empty()) line += " [" + crs.id + "]";
+    return line;
+  };
+  s << "  source CRS:   " << crs_line(a.source()) << "\n";
+  s << "  target CRS:   " << crs_line(a.target()) << "\n";
+  const TransformInfo& t = a.transform();
+  const auto& ops = a.datum_operations();
+  auto accuracy = [](const DatumOperation& d) {
+    return d.is_ballpark    ? std::string("ballpark: approximate only")
+           : d.accuracy_m ? "stated accuracy " + fixed_text(*d.accuracy_m, 3) + " m"
+                          : std::string("accuracy unknown: the datum part has no bound");
+  };
+  std::size_t usable = 0;
+  for (const DatumOperation& d : ops) usable += d.usable ? 1 : 0;
+  const std::string candidates = std::to_string(ops.size()) + " candidates, " + std::to_string(usable) +
+                                 " usable; --summary lists them";
+  const auto& datum_use = stats_.datum_use();
+  if (datum_use.size() == 1) {
+    const DatumOperation& d = ops[datum_use.begin()->first];
+    s << "  datum transformation: " << d.name << " (" << accuracy(d) << ")\n    (" << candidates << ")\n";
+  } else if (datum_use.size() > 1) {
+    // What the features used, per operation: PROJ's choice per feature.
+    s << "  datum transformation: per feature (" << candidates << "):\n";
+    for (const auto& [index, features] : datum_use) {
+      s << "    " << ops[index].name << " (" << accuracy(ops[index]) << "): " << features << " feature(s)\n";
+    }
+  } else {
+    s << "  datum transformation: " << t.name;
+    if (t.is_identity) {
+    } else if (t.accuracy_m) s << " (stated accuracy " << fixed_text(*t.accuracy_m, 3) << " m)";
+    else s << " (accuracy unknown: the datum part has no bound)";
+    if (t.is_ballpark) s << " [ballpark: approximate only]";
+    s << "\n";
+  }
+  for (const std::string& w : datum_warnings(a)) s << "  warning: " << w << "\n";
+  s << "  edges:        " << a.edges().to_string() << "\n";
+  std::string tolerances;
+  for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.as_given();
+  s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";
+}
+
 std::string AuditSummary::to_text(const Context& c) const {
   const SummaryUnits& u = c.units;
   std::ostringstream s;
   s << "gridtruth audit: " << c.input << " (" << to_string(c.format) << ")\n";
-  if (c.auditor) {
-    const Auditor& a = *c.auditor;
-    auto crs_line = [](const CrsInfo& crs) {
-      std::string line = crs.name;
-      if (!crs.id.empty()) line += " [" + crs.id + "]";
-      return line;
-    };
-    s << "  source CRS:   " << crs_line(a.source()) << "\n";
-    s << "  target CRS:   " << crs_line(a.target()) << "\n";
-    const TransformInfo& t = a.transform();
-    const auto& ops = a.datum_operations();
-    auto accuracy = [](const DatumOperation& d) {
-      return d.is_ballpark    ? std::string("ballpark: approximate only")
-             : d.accuracy_m ? "stated accuracy " + fixed_text(*d.accuracy_m, 3) + " m"
-                            : std::string("accuracy unknown: the datum part has no bound");
-    };
-    std::size_t usable = 0;
-    for (const DatumOperation& d : ops) usable += d.usable ? 1 : 0;
-    const std::string candidates = std::to_string(ops.size()) + " candidates, " + std::to_string(usable) +
-                                   " usable; --summary lists them";
-    const auto& datum_use = stats_.datum_use();
-    if (datum_use.size() == 1) {
-      const DatumOperation& d = ops[datum_use.begin()->first];
-      s << "  datum transformation: " << d.name << " (" << accuracy(d) << ")\n    (" << candidates << ")\n";
-    } else if (datum_use.size() > 1) {
-      // What the features used, per operation: PROJ's choice per feature.
-      s << "  datum transformation: per feature (" << candidates << "):\n";
-      for (const auto& [index, features] : datum_use) {
-        s << "    " << ops[index].name << " (" << accuracy(ops[index]) << "): " << features << " feature(s)\n";
-      }
-    } else {
-      s << "  datum transformation: " << t.name;
-      if (t.is_identity) {
-      } else if (t.accuracy_m) s << " (stated accuracy " << fixed_text(*t.accuracy_m, 3) << " m)";
-      else s << " (accuracy unknown: the datum part has no bound)";
-      if (t.is_ballpark) s << " [ballpark: approximate only]";
-      s << "\n";
-    }
-    for (const std::string& w : datum_warnings(a)) s << "  warning: " << w << "\n";
-    s << "  edges:        " << a.edges().to_string() << "\n";
-    std::string tolerances;
-    for (const auto& tol : a.options().tolerances) tolerances += (tolerances.empty() ? "" : ", ") + tol.as_given();
-    s << "  tolerances:   " << (tolerances.empty() ? "none (no verdict)" : tolerances) << "\n";
-  }
+  if (c.auditor) add_auditor_text(s, *c.auditor);
   const RunStatistics& st = stats_;
   s << "  features:     " << st.read() << " read, " << st.ok() << " ok, " << st.invalid() << " invalid, "
     << st.unmeasurable() << " unmeasurable; " << st.pass() << " pass, " << st.fail() << " fail\n";

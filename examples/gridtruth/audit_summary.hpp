@@ -4,6 +4,7 @@
 #include <cstddef>
 #include <map>
 #include <optional>
+#include <sstream>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -63,6 +64,8 @@ class AuditSummary {
 
  private:
   std::vector<std::string> datum_warnings(const Auditor& auditor) const;
+  void add_auditor_json(nlohmann::ordered_json& j, const Auditor& a) const;
+  void add_auditor_text(std::ostringstream& s, const Auditor& a) const;
   RunStatistics stats_{worst_count};
   std::size_t outside_area_of_use_ = 0;           // measured with the "lie outside the area of use" warning
   std::size_t look_projected_ = 0;                // invalid because geographic input looked projected
