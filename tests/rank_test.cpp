@@ -421,6 +421,43 @@ TEST_F(RankCli, SaysHowManyInvalidFeaturesWereSkipped) {
   EXPECT_NE(t.out.find("Features: 1 invalid (skipped)"), std::string::npos) << t.out;
 }
 
+TEST_F(RankCli, HeightsFromZAreTheHeightsOfAHeightField) {
+  // The same squares at 1500 m above the ellipsoid, given once as Z coordinates (WKT "POLYGON Z", ISO 19125-1
+  // section 7) and once as a height column: rank and tailor give the same output for both (the ground lift is
+  // measured, so the heights are used: a tailored ground projection's scale k0 differs from the ellipsoid's).
+  std::ofstream z(dir_ + "/z.csv"), h(dir_ + "/h.csv");
+  z << "id,wkt\n";
+  h << "id,h,wkt\n";
+  for (int i = 0; i < 4; ++i) {
+    const double x = -93.4 + 0.25 * i;
+    z << i << ",\"POLYGON Z((" << x << " 41 1500," << x + 0.1 << " 41 1500," << x + 0.1 << " 41.1 1500," << x
+      << " 41.1 1500," << x << " 41 1500))\"\n";
+    h << i << ",1500,\"POLYGON((" << x << " 41," << x + 0.1 << " 41," << x + 0.1 << " 41.1," << x << " 41.1," << x
+      << " 41))\"\n";
+  }
+  z.close();
+  h.close();
+  for (const std::string command : {"rank %s --metric area --top 3",
+                                    "tailor %s --family transverse-mercator --metric area --no-compare"}) {
+    auto with = [&](const std::string& input) {
+      std::string c = command;
+      c.replace(c.find("%s"), 2, input);
+      return c;
+    };
+    const CliRun from_z = run(with(dir_ + "/z.csv --height-from-z"), dir_);
+    const CliRun from_field = run(with(dir_ + "/h.csv --height-field h"), dir_);
+    const CliRun flat = run(with(dir_ + "/h.csv"), dir_);
+    ASSERT_EQ(from_z.status, 0) << from_z.err;
+    ASSERT_EQ(from_field.status, 0) << from_field.err;
+    const auto strip_input = [&](std::string text, const std::string& name) {  // the lines naming the input differ
+      for (std::size_t at; (at = text.find(name)) != std::string::npos;) text.replace(at, name.size(), "INPUT");
+      return text;
+    };
+    EXPECT_EQ(strip_input(from_z.out, dir_ + "/z.csv"), strip_input(from_field.out, dir_ + "/h.csv")) << command;
+    if (command.rfind("tailor", 0) == 0) EXPECT_NE(flat.out, from_field.out);  // the height was used
+  }
+}
+
 TEST_F(RankCli, BadOptionsAndUnreadableInputExitTwoWithOneLine) {
   for (const std::string& args : {"rank " + dir_ + "/in.csv --metric volume", "rank " + dir_ + "/missing.csv",
                                   "rank " + dir_ + "/in.csv --tolerance area=abc",

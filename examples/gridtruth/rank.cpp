@@ -25,9 +25,7 @@ struct RankArgs {
   std::string tolerance;
   std::size_t top = 10;
   std::string out;
-  std::string format = "auto";
-  std::string wkt_field = "wkt";
-  std::string height_field;
+  cli::ReadingArgs reading;
   std::size_t sample = 20000;
   unsigned threads = 0;
 };
@@ -74,7 +72,7 @@ int run_rank(const RankArgs& a) {
   }
   RankReport report;
   try {
-    const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
+    const LoadedFeatures features = load_features(a.input, a.reading);
     report = rank_crs(features.features, options);
   } catch (const std::exception& e) {
     std::cerr << "gridtruth rank: " << e.what() << "\n";
@@ -136,7 +134,7 @@ Command set_up(CLI::App& tool) {
   app->add_option("--tolerance", args->tolerance, "limits for the pass share, e.g. area=0.1%,length=1:10000");
   app->add_option("--top", args->top, "candidates listed")->capture_default_str();
   app->add_option("--out", args->out, "also write the ranking as CSV to this file");
-  add_reading_options(app, args->format, args->wkt_field, args->height_field, "");
+  add_reading_options(app, args->reading, "");
   app->add_option("--sample", args->sample,
                   "above this many features the leaders are audited on a reproducible sample of this size")
       ->capture_default_str();

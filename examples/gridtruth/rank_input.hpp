@@ -26,13 +26,21 @@ struct LoadedFeatures {
   std::size_t unreadable = 0;
 };
 
+/// How rank and tailor read their input (--format, --wkt-field, --height-field, --height-from-z).
+struct ReadingArgs {
+  std::string format = "auto";
+  std::string wkt_field = "wkt";
+  std::string height_field;
+  bool height_from_z = false;
+};
+
 /// Throws what FeatureReader throws (Error(io), Error(parse), Error(invalid_argument) for a bad format name).
-inline LoadedFeatures load_features(const std::string& input, const std::string& format,
-                                    const std::string& wkt_field, const std::string& height_field) {
+inline LoadedFeatures load_features(const std::string& input, const ReadingArgs& reading) {
   ReaderOptions ro;
-  ro.format = parse_input_format(format);
-  ro.wkt_field = wkt_field;
-  ro.height_field = height_field;
+  ro.format = parse_input_format(reading.format);
+  ro.wkt_field = reading.wkt_field;
+  ro.height_field = reading.height_field;
+  ro.height_from_z = reading.height_from_z;
   if (input == "-" && standard_input_closed())
     throw Error(ErrorCode::io, "cannot read standard input: it is closed");
   FeatureReader reader(input, ro);
@@ -42,19 +50,22 @@ inline LoadedFeatures load_features(const std::string& input, const std::string&
       ++out.unreadable;
       continue;
     }
-    out.features.push_back({std::move(*f->geometry), f->height_m});  // a height only with a height field
+    out.features.push_back({std::move(*f->geometry), f->height_m});  // a height only with a height option
   }
   return out;
 }
 
-/// The options that say how to read the input: --format, --wkt-field and --height-field (its help text followed
-/// by `height_note`).
-inline void add_reading_options(CLI::App* app, std::string& format, std::string& wkt_field,
-                                std::string& height_field, const std::string& height_note) {
-  app->add_option("--format", format, "input format: auto, geojson, ndjson, csv")->capture_default_str();
-  app->add_option("--wkt-field", wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
-  app->add_option("--height-field", height_field,
+/// The options that say how to read the input: --format, --wkt-field, --height-field (its help text followed by
+/// `height_note`) and --height-from-z.
+inline void add_reading_options(CLI::App* app, ReadingArgs& reading, const std::string& height_note) {
+  app->add_option("--format", reading.format, "input format: auto, geojson, ndjson, csv, gdal")->capture_default_str();
+  app->add_option("--wkt-field", reading.wkt_field, "CSV column that holds the WKT geometry")->capture_default_str();
+  app->add_option("--height-field", reading.height_field,
                   "property or column holding each feature's ellipsoidal height in metres" + height_note);
+  app->add_flag("--height-from-z", reading.height_from_z,
+                "take each feature's ellipsoidal height from its Z coordinates (the mean of its positions' Z)" +
+                    height_note)
+      ->excludes(app->get_option("--height-field"));
 }
 
 /// A number with a fixed count of decimals for the text reports: fixed_text(), except that an infinite figure

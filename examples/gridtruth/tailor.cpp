@@ -20,9 +20,7 @@ struct TailorArgs {
   std::string source_crs = "EPSG:4326";
   std::string metric = "length";
   std::string tolerance;
-  std::string format = "auto";
-  std::string wkt_field = "wkt";
-  std::string height_field;
+  cli::ReadingArgs reading;
   bool no_compare = false;
   unsigned threads = 0;
 };
@@ -55,7 +53,7 @@ int run_tailor(const TailorArgs& a) {
   }
   TailorResult t;
   try {
-    const LoadedFeatures features = load_features(a.input, a.format, a.wkt_field, a.height_field);
+    const LoadedFeatures features = load_features(a.input, a.reading);
     t = tailor_crs(features.features, family, options);
   } catch (const std::exception& e) {
     std::cerr << "gridtruth tailor: " << e.what() << "\n";
@@ -111,7 +109,7 @@ Command set_up(CLI::App& tool) {
   app->add_option("--source-crs", args->source_crs, "geographic CRS of the input (longitude, latitude)")
       ->capture_default_str();
   app->add_option("--tolerance", args->tolerance, "limits for the pass share, e.g. length=1:100000");
-  add_reading_options(app, args->format, args->wkt_field, args->height_field, " (fits a ground projection)");
+  add_reading_options(app, args->reading, " (fits a ground projection)");
   app->add_flag("--no-compare", args->no_compare, "skip ranking the database's CRSs for the comparison");
   app->add_option("--threads", args->threads, "worker threads; 0 uses every hardware thread")->capture_default_str();
   app->footer(std::string("\nThe parameters minimise the worst |ppm| of the metric over distortion factors at sample "
