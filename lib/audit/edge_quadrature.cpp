@@ -141,7 +141,8 @@ const Rule& rule_of(int n) {
 /// n − 1; its Chebyshev coefficients along (a_k) and across (b_k) the chord; what the bounds need.
 struct Integrals {
   double length = 0, bulge2 = 0, length_low = 0, bulge2_low = 0;
-  std::array<double, EdgeQuadrature::kMaxOrder + 1> along{}, across{};  // a_k, b_k, k = 0..n
+  // a_k, b_k, k = 0..n (only those are set and read: clearing the whole arrays would cost more than the sums)
+  std::array<double, EdgeQuadrature::kMaxOrder + 1> along, across;
   double chord = 0;
   double length_magnitude = 0;      // ∫ |X'| + |Y'|
   double coordinate_magnitude = 0;  // largest |coordinate| of a node (plane, not chord frame)
@@ -160,7 +161,8 @@ Integrals integrals(const Rule& r, const std::vector<Coord>& xy) {
   const double ux = c > 0 ? cx / c : 1, uy = c > 0 ? cy / c : 0;
   Integrals out;
   out.chord = c;
-  std::array<double, EdgeQuadrature::kMaxOrder + 1> px{}, py{};
+  std::array<double, EdgeQuadrature::kMaxOrder + 1> px, py;  // [0, m) used
+  px[0] = py[0] = 0;
   out.coordinate_magnitude = std::max(std::fabs(o.x), std::fabs(o.y));
   double big_x = 0, big_y = 0;  // max |px|, |py|
   for (int j = 1; j < m; ++j) {  // X_0 = Y_0 = 0
@@ -246,7 +248,8 @@ double family_rate2(const Coefficients& c, int n, int parity) {
 /// The Chebyshev coefficients of the derivative of Σ_{k≤n} c_k T_k (degree n − 1): d_{k−1} = d_{k+1} + 2k c_k,
 /// d_0 halved (Mason and Handscomb 2003, eq. 2.49).
 Coefficients derivative(const Coefficients& c, int n) {
-  Coefficients d{};
+  Coefficients d;  // degrees ≥ n are never read past n: only those are cleared (a full clear costs more than the rest)
+  std::fill_n(d.begin(), std::min<std::size_t>(d.size(), static_cast<std::size_t>(n) + 1), 0.0);
   double next = 0, next2 = 0;  // d_{k+1}, d_{k+2}
   for (int k = n; k >= 1; --k) {
     const double here = next2 + 2.0 * k * c[k];  // d_{k−1}
@@ -302,9 +305,10 @@ void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, const Rule& rul
       if (k - 2 >= 2) top[component][parity] = std::max(top[component][parity], r2 * std::fabs(c[k - 2]));
     }
   }
-  std::array<double, EdgeQuadrature::kMaxOrder + 3> power{};  // r2^i
+  std::array<double, EdgeQuadrature::kMaxOrder + 3> power;  // r2^i, for i ≤ (2n + 2 − (n − 1)) / 2 ≤ n/2 + 2
   power[0] = 1;
-  for (std::size_t i = 1; i < power.size(); ++i) power[i] = power[i - 1] * r2;
+  const std::size_t powers = std::min<std::size_t>(power.size(), static_cast<std::size_t>(n) / 2 + 3);
+  for (std::size_t i = 1; i < powers; ++i) power[i] = power[i - 1] * r2;
   auto extrapolated = [&](int component, int k) {  // |c_k| for k > n
     const int from = (n % 2 == k % 2) ? n : n - 1;
     return top[component][k % 2] * power[(k - from) / 2];
