@@ -77,51 +77,91 @@ class PathDensifier {
       // (edge_quadrature.hpp), when they converge; else the adaptive densification below.
       samples_.push_back(first_midpoint_);
       first = false;
-      const double c = chord(p0, p1);
-      const detail::EdgeQuadrature::Result q =
-          quadrature_.integrate(curve, edge_m, p0, pm, p1, op_, radius_, kQuadratureShare * tolerance_,
-                                kQuadratureShare * tolerance_ * c, noise_, samples_);
-      densified_ += q.points;
-      if (q.accepted) {
-        length_.add(q.length);
-        length_error_.add(q.length_bound);
-        ++quadrature_edges_;
-        order_sum_ += q.order;
-        if (path_.closed()) {
-          area2_.add(cross(p0.x - origin_.x, p0.y - origin_.y, p1.x - origin_.x, p1.y - origin_.y));
-          area2_.add(q.bulge2);
-          area_error_.add(q.area_bound);
-        }
-        return {};
-      }
+      if (quadrature(curve, edge_m, p0, pm, p1)) return {};
     }
     if (const double d = deviation(p0, pm, p1); d <= tolerance_) {
-      // One parabola through the ends and the midpoint. It misses the image's cubic term b₃ (Chebyshev, in the
-      // edge's parameter), which the midpoint cannot see: an image that changes its bend at the middle (a geodesic
-      // crossing a transverse Mercator's central meridian) has d ≈ 0 but b₃ up to about 1e-2·c·(c/R)² (measured,
-      // EdgeQuadrature::predicted_order), and b₃ costs 25.6·b₃²/c in length (∫ Y'² dt / c of b₃(T₃ − T₁), the part
-      // no parabola through t = −1, 0, 1 holds); and the quartic b₄ ≈ max(b₂·ρ², b₃·ρ) (b₂ = max(d/2,
-      // 2e-2·c·(c/R)²), ρ = 0.3·c/R, as predicted_order), which Simpson's rule misses by 32/15 in ∫ Y dt (the
-      // parabola's bulge is Simpson's rule of ∫ Y dX, exact to the cubic). Each taken with a factor
-      // 4 of margin (tested in tests/bounds_test.cpp at densify tolerances of 1 cm to 10 m).
-      accept(p0, pm, p1);
-      const double c = chord(p0, p1);
-      const double q = c / radius_, rho = detail::EdgeQuadrature::kRate * q;
-      const double b3 = std::max(0.5 * d * rho, 1e-2 * c * q * q);
-      const double b4 = std::max(std::max(0.5 * d, 2e-2 * c * q * q) * rho * rho, b3 * rho);
-      // And the midpoint sits ε off the chord's middle along it (the scale varies along the edge): a curve whose
-      // apex is at the chord's middle then passes the midpoint lower by d·4ε²/c², which the parabola's bulge
-      // (2/3)·c·d misses by (8/3)·d·ε²/c (twice that in twice the area), its length by (32/3)·d²ε²/c³.
-      const double cx = p1.x - p0.x, cy = p1.y - p0.y;
-      const double eps = c > 0 ? std::fabs((pm.x - 0.5 * (p0.x + p1.x)) * cx + (pm.y - 0.5 * (p0.y + p1.y)) * cy) / c : 0;
-      const double off2 = c > 0 ? eps * eps / c : 0;
-      bound_length_.add(4 * 25.6 * b3 * b3 / std::max(c, 1e-300) + 4 * (32.0 / 3.0) * d * d * off2 / std::max(c * c, 1e-300) +
-                        midpoint_length_term(d, c));
-      if (path_.closed()) {
-        bound_area2_.add(4 * (32.0 / 15.0) * c * b4 + 4 * 2 * (8.0 / 3.0) * d * off2 + midpoint_area2_term(c));
-      }
+      parabola(p0, pm, p1, d);
       return {};
     }
+    return densify(edge_m, p0, pm, p1, first);
+  }
+
+  double length_units() const { return length_.value(); }
+  double area2_units() const { return area2_.value(); }
+  /// Sums of the quadrature's bounds (edge_quadrature.hpp) over the edges it measured.
+  double quadrature_length_error_units() const { return length_error_.value(); }
+  double quadrature_area_error_units2() const { return area_error_.value(); }
+  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's bounds,
+  /// the parabola edges' terms, the fallback pieces' whole bulges; length in the unit, area as twice the area.
+  double method_length_bound_units() const { return length_error_.value() + bound_length_.value(); }
+  double method_area2_bound_units2() const { return 2 * area_error_.value() + bound_area2_.value(); }
+  std::size_t quadrature_edges() const { return quadrature_edges_; }
+  double mean_order() const { return quadrature_edges_ ? double(order_sum_) / quadrature_edges_ : 0; }
+
+ private:
+  struct Piece {
+    double s0, s1;
+    Coord p0, p1, pm;
+  };
+  static constexpr std::size_t kMaxPoints = 4'000'000;
+  static constexpr double kSmooth = 0.25;  // a smooth image stays near its chord relative to the chord's length
+  // The residual of a piece's parabola at its quarter points is the image's cubic term; the parabolas of its two
+  // halves (through the quarter points) then deviate by about 1/8 of it (the cubic term scales with length³).
+  static constexpr double kCubic = 8;
+
+  /// The line integrals of edge p0 → p1 (midpoint pm) by quadrature (edge_quadrature.hpp); false when they do
+  /// not converge.
+  bool quadrature(const Curve& curve, double edge_m, const Coord& p0, const Coord& pm, const Coord& p1) {
+    const double c = chord(p0, p1);
+    const detail::EdgeQuadrature::Result q =
+        quadrature_.integrate(curve, edge_m, p0, pm, p1, op_, radius_, kQuadratureShare * tolerance_,
+                              kQuadratureShare * tolerance_ * c, noise_, samples_);
+    densified_ += q.points;
+    if (q.accepted) {
+      length_.add(q.length);
+      length_error_.add(q.length_bound);
+      ++quadrature_edges_;
+      order_sum_ += q.order;
+      if (path_.closed()) {
+        area2_.add(cross(p0.x - origin_.x, p0.y - origin_.y, p1.x - origin_.x, p1.y - origin_.y));
+        area2_.add(q.bulge2);
+        area_error_.add(q.area_bound);
+      }
+      return true;
+    }
+    return false;
+  }
+
+  /// Edge p0 → p1 as one parabola through its ends and its midpoint pm, d off the chord.
+  void parabola(const Coord& p0, const Coord& pm, const Coord& p1, double d) {
+    // One parabola through the ends and the midpoint. It misses the image's cubic term b₃ (Chebyshev, in the
+    // edge's parameter), which the midpoint cannot see: an image that changes its bend at the middle (a geodesic
+    // crossing a transverse Mercator's central meridian) has d ≈ 0 but b₃ up to about 1e-2·c·(c/R)² (measured,
+    // EdgeQuadrature::predicted_order), and b₃ costs 25.6·b₃²/c in length (∫ Y'² dt / c of b₃(T₃ − T₁), the part
+    // no parabola through t = −1, 0, 1 holds); and the quartic b₄ ≈ max(b₂·ρ², b₃·ρ) (b₂ = max(d/2,
+    // 2e-2·c·(c/R)²), ρ = 0.3·c/R, as predicted_order), which Simpson's rule misses by 32/15 in ∫ Y dt (the
+    // parabola's bulge is Simpson's rule of ∫ Y dX, exact to the cubic). Each taken with a factor
+    // 4 of margin (tested in tests/bounds_test.cpp at densify tolerances of 1 cm to 10 m).
+    accept(p0, pm, p1);
+    const double c = chord(p0, p1);
+    const double q = c / radius_, rho = detail::EdgeQuadrature::kRate * q;
+    const double b3 = std::max(0.5 * d * rho, 1e-2 * c * q * q);
+    const double b4 = std::max(std::max(0.5 * d, 2e-2 * c * q * q) * rho * rho, b3 * rho);
+    // And the midpoint sits ε off the chord's middle along it (the scale varies along the edge): a curve whose
+    // apex is at the chord's middle then passes the midpoint lower by d·4ε²/c², which the parabola's bulge
+    // (2/3)·c·d misses by (8/3)·d·ε²/c (twice that in twice the area), its length by (32/3)·d²ε²/c³.
+    const double cx = p1.x - p0.x, cy = p1.y - p0.y;
+    const double eps = c > 0 ? std::fabs((pm.x - 0.5 * (p0.x + p1.x)) * cx + (pm.y - 0.5 * (p0.y + p1.y)) * cy) / c : 0;
+    const double off2 = c > 0 ? eps * eps / c : 0;
+    bound_length_.add(4 * 25.6 * b3 * b3 / std::max(c, 1e-300) + 4 * (32.0 / 3.0) * d * d * off2 / std::max(c * c, 1e-300) +
+                      midpoint_length_term(d, c));
+    if (path_.closed()) {
+      bound_area2_.add(4 * (32.0 / 15.0) * c * b4 + 4 * 2 * (8.0 / 3.0) * d * off2 + midpoint_area2_term(c));
+    }
+  }
+
+  /// The adaptive densification of an edge (the fallback); `first`: the edge's midpoint is not yet a sample.
+  std::string densify(double edge_m, const Coord& p0, const Coord& pm, const Coord& p1, bool first) {
     stack_.assign(1, Piece{0.0, edge_m, p0, p1, pm});
     while (!stack_.empty()) {
       const Piece piece = stack_.back();
@@ -167,29 +207,6 @@ class PathDensifier {
     }
     return {};
   }
-
-  double length_units() const { return length_.value(); }
-  double area2_units() const { return area2_.value(); }
-  /// Sums of the quadrature's bounds (edge_quadrature.hpp) over the edges it measured.
-  double quadrature_length_error_units() const { return length_error_.value(); }
-  double quadrature_area_error_units2() const { return area_error_.value(); }
-  /// Bounds on the method's error (Budget::densified_grid_bound, without round-off): the quadrature's bounds,
-  /// the parabola edges' terms, the fallback pieces' whole bulges; length in the unit, area as twice the area.
-  double method_length_bound_units() const { return length_error_.value() + bound_length_.value(); }
-  double method_area2_bound_units2() const { return 2 * area_error_.value() + bound_area2_.value(); }
-  std::size_t quadrature_edges() const { return quadrature_edges_; }
-  double mean_order() const { return quadrature_edges_ ? double(order_sum_) / quadrature_edges_ : 0; }
-
- private:
-  struct Piece {
-    double s0, s1;
-    Coord p0, p1, pm;
-  };
-  static constexpr std::size_t kMaxPoints = 4'000'000;
-  static constexpr double kSmooth = 0.25;  // a smooth image stays near its chord relative to the chord's length
-  // The residual of a piece's parabola at its quarter points is the image's cubic term; the parabolas of its two
-  // halves (through the quarter points) then deviate by about 1/8 of it (the cubic term scales with length³).
-  static constexpr double kCubic = 8;
 
   static double chord(const Coord& p0, const Coord& p1) { return std::hypot(p1.x - p0.x, p1.y - p0.y); }
 

@@ -5,6 +5,7 @@
 #include <GeographicLib/Rhumb.hpp>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <optional>
 #include <string>
@@ -163,8 +164,7 @@ class StraightWalker {
                    EllipsoidWalk& on_source, EllipsoidWalk& on_target) {
     const std::size_t n = c_xy.size();
     const std::size_t edges = n < 2 ? 0 : (closed ? n : n - 1);
-    RingSum sum_s, sum_p;
-    Bounds bound_s, bound_p;
+    Sums sums;
     on_source = EllipsoidWalk{};
     on_target = EllipsoidWalk{};
     on_source.resize(edges);
@@ -173,41 +173,9 @@ class StraightWalker {
       const std::size_t j = (e + 1) % n;
       const Coord c0 = c_xy[e], c1 = c_xy[j];
       const double length = std::hypot(c1.x - c0.x, c1.y - c0.y);
-      Piece first{0, 1, {lonlat_s[e], lonlat_s[j]}, {lonlat_p[e], lonlat_p[j]}, {}, {}};
-      chord(source_, first.s[0], first.s[1], first.chord_s);
-      if (target_) chord(*target_, first.p[0], first.p[1], first.chord_p);
-      stack_.assign(1, first);
-      while (!stack_.empty()) {
-        const Piece piece = stack_.back();
-        stack_.pop_back();
-        const double tm = 0.5 * (piece.t0 + piece.t1);
-        const Coord mc{c0.x + tm * (c1.x - c0.x), c0.y + tm * (c1.y - c0.y)};
-        const Coord ms = from_plane(source_, mc);
-        const Coord mp = target_ ? from_plane(*target_, mc) : ms;
-        if (!finite(ms) || !finite(mp)) return failure(e, path_index, "cannot be taken back to the ellipsoid");
-        Chord a_s, b_s, a_p, b_p;
-        chord(source_, piece.s[0], ms, a_s);
-        chord(source_, ms, piece.s[1], b_s);
-        const double whole_s = source_.geod->EllipsoidArea();
-        const double triangle_s = std::remainder(a_s.area + b_s.area - piece.chord_s.area, whole_s);
-        const double deviation = piece.chord_s.length > 0 ? 2 * std::fabs(triangle_s) / piece.chord_s.length : 0;
-        if (target_) {
-          chord(*target_, piece.p[0], mp, a_p);
-          chord(*target_, mp, piece.p[1], b_p);
-        }
-        if (deviation <= tolerance_m_) {
-          accept(sum_s, bound_s, *source_.geod, piece.s[0], ms, piece.s[1], a_s, b_s, piece.chord_s, whole_s);
-          if (target_) {
-            accept(sum_p, bound_p, *target_->geod, piece.p[0], mp, piece.p[1], a_p, b_p, piece.chord_p,
-                   target_->geod->EllipsoidArea());
-          }
-          continue;
-        }
-        if ((piece.t1 - piece.t0) * length < 1e-3 || ++points_ > kMaxPoints) {
-          return failure(e, path_index, "does not converge when taken back to the ellipsoid");
-        }
-        stack_.push_back({tm, piece.t1, {ms, piece.s[1]}, {mp, piece.p[1]}, b_s, b_p});
-        stack_.push_back({piece.t0, tm, {piece.s[0], ms}, {piece.p[0], mp}, a_s, a_p});
+      if (std::string why = edge(c0, c1, length, {lonlat_s[e], lonlat_s[j]}, {lonlat_p[e], lonlat_p[j]}, sums);
+          !why.empty()) {
+        return failure(e, path_index, why);
       }
       // The true edge's azimuth at its start: toward a point 1 unit (or half the edge) along it.
       const double t = std::min(0.5, 1.0 / std::max(length, 1e-300));
@@ -216,22 +184,7 @@ class StraightWalker {
       if (target_) start_azimuth(*target_, lonlat_p[e], from_plane(*target_, near), on_target, e);
       on_source.edge_param[e] = length;
     }
-    on_source.length_m = sum_s.length();
-    if (closed && edges > 0) on_source.signed_area_m2 = sum_s.signed_area(source_.geod->EllipsoidArea());
-    // The pieces' bounds plus the double-double sums' round-off (as walk_on_ellipsoid()).
-    on_source.length_bound_m = bound_s.length_m.value() + 4 * kUnitRoundoff * on_source.length_m;
-    on_source.area_bound_m2 =
-        closed ? bound_s.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_source.signed_area_m2) : 0.0;
-    if (target_) {
-      on_target.length_m = sum_p.length();
-      if (closed && edges > 0) on_target.signed_area_m2 = sum_p.signed_area(target_->geod->EllipsoidArea());
-      on_target.edge_param = on_source.edge_param;
-      on_target.length_bound_m = bound_p.length_m.value() + 4 * kUnitRoundoff * on_target.length_m;
-      on_target.area_bound_m2 =
-          closed ? bound_p.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_target.signed_area_m2) : 0.0;
-    } else {
-      on_target = on_source;
-    }
+    finish(sums, closed, edges, on_source, on_target);
     return {};
   }
 
@@ -262,6 +215,76 @@ class StraightWalker {
   struct Bounds {
     CompensatedSum length_m, area_m2;
   };
+  /// What the accepted pieces of a path add up to, on each side.
+  struct Sums {
+    RingSum sum_s, sum_p;
+    Bounds bound_s, bound_p;
+  };
+
+  /// Refines the edge c0 → c1 of C's plane (`length` long, its ends `s` on the source's and `p` on the target's
+  /// geographic CRS) into pieces and adds them to `sums`; returns why it cannot ("" when it can).
+  std::string edge(const Coord& c0, const Coord& c1, double length, const std::array<Coord, 2>& s,
+                   const std::array<Coord, 2>& p, Sums& sums) {
+    Piece first{0, 1, {s[0], s[1]}, {p[0], p[1]}, {}, {}};
+    chord(source_, first.s[0], first.s[1], first.chord_s);
+    if (target_) chord(*target_, first.p[0], first.p[1], first.chord_p);
+    stack_.assign(1, first);
+    while (!stack_.empty()) {
+      const Piece piece = stack_.back();
+      stack_.pop_back();
+      const double tm = 0.5 * (piece.t0 + piece.t1);
+      const Coord mc{c0.x + tm * (c1.x - c0.x), c0.y + tm * (c1.y - c0.y)};
+      const Coord ms = from_plane(source_, mc);
+      const Coord mp = target_ ? from_plane(*target_, mc) : ms;
+      if (!finite(ms) || !finite(mp)) return "cannot be taken back to the ellipsoid";
+      Chord a_s, b_s, a_p, b_p;
+      chord(source_, piece.s[0], ms, a_s);
+      chord(source_, ms, piece.s[1], b_s);
+      const double whole_s = source_.geod->EllipsoidArea();
+      const double triangle_s = std::remainder(a_s.area + b_s.area - piece.chord_s.area, whole_s);
+      const double deviation = piece.chord_s.length > 0 ? 2 * std::fabs(triangle_s) / piece.chord_s.length : 0;
+      if (target_) {
+        chord(*target_, piece.p[0], mp, a_p);
+        chord(*target_, mp, piece.p[1], b_p);
+      }
+      if (deviation <= tolerance_m_) {
+        accept(sums.sum_s, sums.bound_s, *source_.geod, piece.s[0], ms, piece.s[1], a_s, b_s, piece.chord_s,
+               whole_s);
+        if (target_) {
+          accept(sums.sum_p, sums.bound_p, *target_->geod, piece.p[0], mp, piece.p[1], a_p, b_p, piece.chord_p,
+                 target_->geod->EllipsoidArea());
+        }
+        continue;
+      }
+      if ((piece.t1 - piece.t0) * length < 1e-3 || ++points_ > kMaxPoints) {
+        return "does not converge when taken back to the ellipsoid";
+      }
+      stack_.push_back({tm, piece.t1, {ms, piece.s[1]}, {mp, piece.p[1]}, b_s, b_p});
+      stack_.push_back({piece.t0, tm, {piece.s[0], ms}, {piece.p[0], mp}, a_s, a_p});
+    }
+    return {};
+  }
+
+  /// The walks' measures and bounds from the sums: the pieces' bounds plus the double-double sums' round-off
+  /// (as walk_on_ellipsoid()).
+  void finish(const Sums& sums, bool closed, std::size_t edges, EllipsoidWalk& on_source,
+              EllipsoidWalk& on_target) const {
+    on_source.length_m = sums.sum_s.length();
+    if (closed && edges > 0) on_source.signed_area_m2 = sums.sum_s.signed_area(source_.geod->EllipsoidArea());
+    on_source.length_bound_m = sums.bound_s.length_m.value() + 4 * kUnitRoundoff * on_source.length_m;
+    on_source.area_bound_m2 =
+        closed ? sums.bound_s.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_source.signed_area_m2) : 0.0;
+    if (target_) {
+      on_target.length_m = sums.sum_p.length();
+      if (closed && edges > 0) on_target.signed_area_m2 = sums.sum_p.signed_area(target_->geod->EllipsoidArea());
+      on_target.edge_param = on_source.edge_param;
+      on_target.length_bound_m = sums.bound_p.length_m.value() + 4 * kUnitRoundoff * on_target.length_m;
+      on_target.area_bound_m2 =
+          closed ? sums.bound_p.area_m2.value() + 4 * kUnitRoundoff * std::fabs(on_target.signed_area_m2) : 0.0;
+    } else {
+      on_target = on_source;
+    }
+  }
 
   static void accept(RingSum& sum, Bounds& bound, const GeographicLib::Geodesic& geod, const Coord& a,
                      const Coord& m, const Coord& b, const Chord& am, const Chord& mb, const Chord& ab,
