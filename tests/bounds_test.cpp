@@ -223,7 +223,7 @@ TEST(Bounds, HoldAgainstHigherPrecisionReferencesAndAreNotVacuous) {
   // 1515 and 1 to 9: worst 173× to 4.8e3× in length and 4.1e3× to 2.6e4× in area, median far lower. The target is
   // not met: the quadrature's bound sums absolute values of extrapolated coefficients with a safety factor of 10
   // (edge_quadrature.hpp), and a parabola edge's bound comes from a-priori sizes of the terms its three points
-  // cannot see (lib/audit.cpp), with a factor 4. What is asserted is 10⁵× (a bound that far above would be
+  // cannot see (lib/audit/grid.cpp), with a factor 4. What is asserted is 10⁵× (a bound that far above would be
   // useless). G's bound is not checked so: it is dominated by the projection's assumed accuracy (10 nm per vertex),
   // which a reference from the same projected vertices cannot observe; its round-off part is what the long-double
   // sums check (the assertions above).

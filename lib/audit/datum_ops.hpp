@@ -1,5 +1,5 @@
 // Internal: the candidate datum operations between an auditor's source CRS and its target, and PROJ's own
-// per-point choice among them (used by lib/audit/audit.cpp).
+// per-point choice among them (used by lib/audit/auditor.cpp and audit.cpp).
 #pragma once
 
 #include <map>

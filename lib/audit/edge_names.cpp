@@ -1,4 +1,4 @@
-// gridtruth — the names of the edge models (audit.hpp); EdgeSpec's parse() and to_string() are in audit.cpp.
+// gridtruth — the names of the edge models (audit.hpp); EdgeSpec's parse() and to_string() are in auditor.cpp.
 #include "gridtruth/audit.hpp"
 
 namespace gridtruth {

@@ -1,4 +1,4 @@
-// Internal: RAII ownership of PROJ objects and CRS resolution shared by crs.cpp and audit.cpp.
+// Internal: RAII ownership of PROJ objects and CRS resolution shared by crs.cpp and the auditor (lib/audit/auditor.cpp).
 #pragma once
 
 #include <proj.h>
