@@ -35,6 +35,23 @@ struct Rule {
   std::vector<double> aliased;          // ∫ (T_k − T_{2n−k}) T_j at [(k − n − 1) * n + j], n < k ≤ 2n, j < n
 
   explicit Rule(int order) : n(order) {
+    const std::vector<double> node = gauss_legendre();
+    set_coefficient_map();
+    set_node_tables(node);
+    set_aliased_moments();
+  }
+
+ private:
+  /// c_k of the Lobatto values f_j, as coefficient[] holds it.
+  double coef(int j, int k) const {
+    double c = (2.0 / n) * cosines_[(j * k) % (2 * n)];
+    if (j == 0 || j == n) c *= 0.5;
+    if (k == 0 || k == n) c *= 0.5;
+    return c;
+  }
+
+  /// The Gauss–Legendre nodes (returned) and weights (set).
+  std::vector<double> gauss_legendre() {
     // Gauss–Legendre nodes by Newton's method on P_n from Tricomi's initial guesses (common practice; Golub and
     // Welsch 1969 give the same nodes as eigenvalues).
     std::vector<double> node(n);
@@ -57,21 +74,26 @@ struct Rule {
       node[i] = z;
       weight[i] = 2 / ((1 - z * z) * dp * dp);
     }
+    return node;
+  }
+
+  /// The map from the Lobatto values to the Chebyshev coefficients.
+  void set_coefficient_map() {
     // Chebyshev coefficients of the Lobatto interpolant: c_k = (2/n) Σ''_j f_j cos(jkπ/n), c_0 and c_n halved
     // (Trefethen 2013, ch. 3); f(t) = Σ c_k T_k(t), f'(t) = Σ c_k k U_{k−1}(t).
     const int m = n + 1;
-    std::vector<double> cosines(2 * n);  // cos(iπ/n): cos(jkπ/n) = cosines[jk mod 2n]
-    for (int i = 0; i < 2 * n; ++i) cosines[i] = std::cos(kPi * i / n);
-    auto coef = [&](int j, int k) {
-      double c = (2.0 / n) * cosines[(j * k) % (2 * n)];
-      if (j == 0 || j == n) c *= 0.5;
-      if (k == 0 || k == n) c *= 0.5;
-      return c;
-    };
+    cosines_.resize(2 * n);  // cos(iπ/n): cos(jkπ/n) = cosines_[jk mod 2n]
+    for (int i = 0; i < 2 * n; ++i) cosines_[i] = std::cos(kPi * i / n);
     coefficient.assign(m * m, 0.0);
     for (int k = 0; k <= n; ++k) {
       for (int j = 0; j < m; ++j) coefficient[k * m + j] = coef(j, k);
     }
+  }
+
+  /// The interpolant's value and slope at each Gauss node, T_n and T'_n there, the round-off sums, the Lebesgue
+  /// constant.
+  void set_node_tables(const std::vector<double>& node) {
+    const int m = n + 1;
     value.assign(n * m, 0.0);
     slope.assign(n * m, 0.0);
     top_t.assign(n, 0.0);
@@ -114,6 +136,10 @@ struct Rule {
     // The Lobatto interpolant's Lebesgue constant is at most (2/π) ln(n) + 1 (Trefethen 2013, thm. 15.2); the
     // Gauss nodes sample it, the bound covers the rest.
     lebesgue = std::max(lebesgue, 2 / kPi * std::log(double(n)) + 1);
+  }
+
+  /// The aliased moments of the bounds.
+  void set_aliased_moments() {
     // T_k T_j = (T_{k+j} + T_{|k−j|})/2 (Mason and Handscomb 2003, eq. 2.38).
     aliased.assign(n * n, 0.0);
     for (int k = n + 1; k <= 2 * n; ++k) {
@@ -125,6 +151,8 @@ struct Rule {
       }
     }
   }
+
+  std::vector<double> cosines_;
 };
 
 /// The rule of an even order 4 ≤ n ≤ kMaxOrder, built on first use (thread-safe).
@@ -277,42 +305,59 @@ double abs_sum(const Coefficients& c, int n) {
 
 bool finite(const Coord& c) noexcept { return std::isfinite(c.x) && std::isfinite(c.y); }
 
-/// The bounds of the order tried last (see edge_quadrature.hpp, "Bounds").
-void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, const Rule& rule, double noise) {
-  using EQ = EdgeQuadrature;
-  const int n = rule.n;
-  const double lebesgue = rule.lebesgue;
-  // The coefficients beyond n, each family (along or across, even or odd) extrapolated from its top one at the
-  // largest rate ρ² per two degrees any family shows (the same function, so the same asymptotic rate: the largest
-  // guards against a family that happens to decay fast at low degrees), the top one taken as at least ρ² times
-  // the one two below it (in case it happens to be small). With no geometric decay seen (ρ² > 1/4: e.g.
-  // coefficients down to the nodes' noise) the rate is taken as 1/2 and the bound has no safety factor: it is
-  // then of the size of the last coefficients, as the acceptance test.
-  double seen = 0;
-  for (const Coefficients* c : {&q.along, &q.across}) {
-    for (int parity = 0; parity < 2; ++parity) seen = std::max(seen, family_rate2(*c, n, parity));
+/// The image's Chebyshev coefficients beyond the order n, extrapolated (see set_bounds()).
+struct Tail {
+  int n = 0;
+  double seen = 0;    // the largest decay rate ρ² per two degrees any family shows
+  double r2 = 0.5;    // the rate the extrapolation uses
+  double safety = 1;  // the factor on the estimate (EdgeQuadrature::kSafety when the coefficients converge)
+  double top[2][2] = {};  // [component][parity of the degree]: the top coefficient of each family
+  std::array<double, EdgeQuadrature::kMaxOrder + 3> power;  // r2^i, for i ≤ (2n + 2 − (n − 1)) / 2 ≤ n/2 + 2
+  /// |c_k| for k > n of component 0 (along) or 1 (across).
+  double extrapolated(int component, int k) const {
+    const int from = (n % 2 == k % 2) ? n : n - 1;
+    return top[component][k % 2] * power[(k - from) / 2];
   }
-  res.decay_rate2 = seen;
-  const bool converging = seen <= EQ::kMaxRate2;
-  const double r2 = converging ? seen : 0.5;
-  const double safety = converging ? EQ::kSafety : 1.0;
-  double top[2][2];  // [component][parity of the degree]
+};
+
+// The coefficients beyond n, each family (along or across, even or odd) extrapolated from its top one at the
+// largest rate ρ² per two degrees any family shows (the same function, so the same asymptotic rate: the largest
+// guards against a family that happens to decay fast at low degrees), the top one taken as at least ρ² times
+// the one two below it (in case it happens to be small). With no geometric decay seen (ρ² > 1/4: e.g.
+// coefficients down to the nodes' noise) the rate is taken as 1/2 and the bound has no safety factor: it is
+// then of the size of the last coefficients, as the acceptance test.
+Tail tail_of(const Integrals& q, int n) {
+  using EQ = EdgeQuadrature;
+  Tail t;
+  t.n = n;
+  for (const Coefficients* c : {&q.along, &q.across}) {
+    for (int parity = 0; parity < 2; ++parity) t.seen = std::max(t.seen, family_rate2(*c, n, parity));
+  }
+  const bool converging = t.seen <= EQ::kMaxRate2;
+  t.r2 = converging ? t.seen : 0.5;
+  t.safety = converging ? EQ::kSafety : 1.0;
   for (int component = 0; component < 2; ++component) {
     const Coefficients& c = component == 0 ? q.along : q.across;
     for (int parity = 0; parity < 2; ++parity) {
       const int k = (n % 2 == parity) ? n : n - 1;
-      top[component][parity] = std::fabs(c[k]);
-      if (k - 2 >= 2) top[component][parity] = std::max(top[component][parity], r2 * std::fabs(c[k - 2]));
+      t.top[component][parity] = std::fabs(c[k]);
+      if (k - 2 >= 2) t.top[component][parity] = std::max(t.top[component][parity], t.r2 * std::fabs(c[k - 2]));
     }
   }
-  std::array<double, EdgeQuadrature::kMaxOrder + 3> power;  // r2^i, for i ≤ (2n + 2 − (n − 1)) / 2 ≤ n/2 + 2
-  power[0] = 1;
-  const std::size_t powers = std::min<std::size_t>(power.size(), static_cast<std::size_t>(n) / 2 + 3);
-  for (std::size_t i = 1; i < powers; ++i) power[i] = power[i - 1] * r2;
-  auto extrapolated = [&](int component, int k) {  // |c_k| for k > n
-    const int from = (n % 2 == k % 2) ? n : n - 1;
-    return top[component][k % 2] * power[(k - from) / 2];
-  };
+  t.power[0] = 1;
+  const std::size_t powers = std::min<std::size_t>(t.power.size(), static_cast<std::size_t>(n) / 2 + 3);
+  for (std::size_t i = 1; i < powers; ++i) t.power[i] = t.power[i - 1] * t.r2;
+  return t;
+}
+
+/// The bounds of the order tried last (see edge_quadrature.hpp, "Bounds").
+void set_bounds(EdgeQuadrature::Result& res, const Integrals& q, const Rule& rule, double noise) {
+  const int n = rule.n;
+  const double lebesgue = rule.lebesgue;
+  const Tail tail = tail_of(q, n);
+  res.decay_rate2 = tail.seen;
+  const double r2 = tail.r2, safety = tail.safety;
+  auto extrapolated = [&tail](int component, int k) { return tail.extrapolated(component, k); };
   const double tail_beyond = 1 / (1 - r2);  // Σ_{i≥0} r2^i, at the slowest family's rate
   // The nodes as given are off by at most e (the projection's accuracy, and the rounding of the coordinates):
   // to first order that moves the length by ∫ τ·η' = −∫ τ'·η ≤ turning · Λ e (η the interpolant of the nodes'
