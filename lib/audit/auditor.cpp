@@ -1,10 +1,12 @@
 // Auditor: its public methods, and Auditor::Impl's set-up (the CRSs, the projection, the edge model, the datum
 // transformation), its clones and the conversions of single points.
+#include <array>
 #include <algorithm>
 #include <cctype>
 #include <cmath>
 #include <utility>
 
+#include "core/enum_names.hpp"
 #include "gridtruth/error.hpp"
 #include "auditor_impl.hpp"
 #include "target_check.hpp"
@@ -15,13 +17,15 @@ using detail::finite;
 using detail::kNaN;
 using detail::Pj;
 
+namespace {
+constexpr std::array<detail::EnumName<Status>, 3> kStatusNames = {
+    {{Status::ok, "ok"},
+     {Status::invalid, "invalid"},
+     {Status::unmeasurable, "unmeasurable"}}};
+}  // namespace
+
 std::string_view to_string(Status s) noexcept {
-  switch (s) {
-    case Status::ok: return "ok";
-    case Status::invalid: return "invalid";
-    case Status::unmeasurable: return "unmeasurable";
-  }
-  return "";
+  return detail::name_of(kStatusNames, s);
 }
 
 double gaussian_mean_radius_m(const Ellipsoid& ellipsoid, double lat_deg) noexcept {

@@ -1,4 +1,5 @@
 // gridtruth — raster cells: true cell areas of geographic and projected grids, and class areas.
+#include "core/enum_names.hpp"
 #include "gridtruth/cells.hpp"
 
 #include <GeographicLib/Math.hpp>
@@ -554,19 +555,15 @@ ClassRasterHeader read_class_raster_header(const std::string& path) { no_gdal(pa
 void add_class_raster(const std::string& path, const GridSpec&, ClassAreaAccumulator&) { no_gdal(path); }
 #endif
 
-std::string_view to_string(RawCodeType type) noexcept {
-  switch (type) {
-    case RawCodeType::uint8: return "uint8";
-    case RawCodeType::uint16: return "uint16";
-  }
-  return "";
-}
+namespace {
+constexpr std::array<detail::EnumName<RawCodeType>, 2> kRawCodeNames = {
+    {{RawCodeType::uint8, "uint8"}, {RawCodeType::uint16, "uint16"}}};
+}  // namespace
+
+std::string_view to_string(RawCodeType type) noexcept { return detail::name_of(kRawCodeNames, type); }
 
 RawCodeType parse_raw_code_type(std::string_view name) {
-  for (RawCodeType t : {RawCodeType::uint8, RawCodeType::uint16}) {
-    if (name == to_string(t)) return t;
-  }
-  throw Error(ErrorCode::invalid_argument, "unknown raw code type '" + std::string(name) + "': use uint8 or uint16");
+  return detail::value_named(kRawCodeNames, name, "raw code type");
 }
 
 }  // namespace gridtruth

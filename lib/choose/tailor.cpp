@@ -1,5 +1,7 @@
+#include "core/enum_names.hpp"
 #include "gridtruth/tailor.hpp"
 
+#include <array>
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -192,26 +194,19 @@ std::vector<double> nelder_mead(const std::function<double(const std::vector<dou
 
 }  // namespace
 
-std::string_view to_string(ProjectionFamily family) noexcept {
-  switch (family) {
-    case ProjectionFamily::albers: return "albers";
-    case ProjectionFamily::lambert_conic: return "lambert-conic";
-    case ProjectionFamily::transverse_mercator: return "transverse-mercator";
-    case ProjectionFamily::azimuthal_equal_area: return "azimuthal-equal-area";
-    case ProjectionFamily::oblique_mercator: return "oblique-mercator";
-  }
-  return "";
-}
+namespace {
+constexpr std::array<detail::EnumName<ProjectionFamily>, 5> kFamilyNames = {
+    {{ProjectionFamily::albers, "albers"},
+     {ProjectionFamily::lambert_conic, "lambert-conic"},
+     {ProjectionFamily::transverse_mercator, "transverse-mercator"},
+     {ProjectionFamily::azimuthal_equal_area, "azimuthal-equal-area"},
+     {ProjectionFamily::oblique_mercator, "oblique-mercator"}}};
+}  // namespace
+
+std::string_view to_string(ProjectionFamily family) noexcept { return detail::name_of(kFamilyNames, family); }
 
 ProjectionFamily parse_projection_family(std::string_view name) {
-  for (ProjectionFamily f : {ProjectionFamily::albers, ProjectionFamily::lambert_conic,
-                             ProjectionFamily::transverse_mercator, ProjectionFamily::azimuthal_equal_area,
-                             ProjectionFamily::oblique_mercator}) {
-    if (name == to_string(f)) return f;
-  }
-  throw Error(ErrorCode::invalid_argument,
-              "unknown family '" + std::string(name) +
-                  "': use albers, lambert-conic, transverse-mercator, azimuthal-equal-area or oblique-mercator");
+  return detail::value_named(kFamilyNames, name, "family");
 }
 
 TailorResult tailor_crs(const std::vector<RankFeature>& features, ProjectionFamily family,

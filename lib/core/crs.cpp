@@ -1,5 +1,7 @@
+#include "core/enum_names.hpp"
 #include "gridtruth/crs.hpp"
 
+#include <array>
 #include <fcntl.h>
 #include <limits.h>
 #include <sys/stat.h>
@@ -280,22 +282,26 @@ bool same_crs(const std::string& a, const std::string& b) {
                                         PJ_COMP_EQUIVALENT_EXCEPT_AXIS_ORDER_GEOGCRS) != 0;
 }
 
+namespace {
+constexpr std::array<detail::EnumName<CrsKind>, 4> kCrsKindNames = {
+    {{CrsKind::geographic, "geographic"},
+     {CrsKind::projected, "projected"},
+     {CrsKind::geocentric, "geocentric"},
+     {CrsKind::other, "other"}}};
+}  // namespace
+
 std::string_view to_string(CrsKind kind) noexcept {
-  switch (kind) {
-    case CrsKind::geographic: return "geographic";
-    case CrsKind::projected: return "projected";
-    case CrsKind::geocentric: return "geocentric";
-    case CrsKind::other: return "other";
-  }
-  return "";
+  return detail::name_of(kCrsKindNames, kind);
 }
 
+namespace {
+constexpr std::array<detail::EnumName<CrsFileAccess>, 2> kCrsFileAccessNames = {
+    {{CrsFileAccess::any, "any"},
+     {CrsFileAccess::data_directories, "data_directories"}}};
+}  // namespace
+
 std::string_view to_string(CrsFileAccess access) noexcept {
-  switch (access) {
-    case CrsFileAccess::any: return "any";
-    case CrsFileAccess::data_directories: return "data_directories";
-  }
-  return "";
+  return detail::name_of(kCrsFileAccessNames, access);
 }
 
 }  // namespace gridtruth

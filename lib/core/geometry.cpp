@@ -1,6 +1,8 @@
 // gridtruth — feature geometry and its validation.
+#include "core/enum_names.hpp"
 #include "gridtruth/geometry.hpp"
 
+#include <array>
 #include <algorithm>
 #include <cmath>
 #include <sstream>
@@ -136,16 +138,19 @@ void check_multi_count(std::size_t count, std::string_view type, std::vector<Pro
 
 }  // namespace
 
+namespace {
+constexpr std::array<detail::EnumName<GeometryType>, 6> kGeometryTypeNames = {
+    {{GeometryType::point, "Point"},
+     {GeometryType::line_string, "LineString"},
+     {GeometryType::polygon, "Polygon"},
+     {GeometryType::multi_point, "MultiPoint"},
+     {GeometryType::multi_line_string, "MultiLineString"},
+     {GeometryType::multi_polygon, "MultiPolygon"}}};
+}  // namespace
+
 std::string_view to_string(GeometryType type) noexcept {
-  switch (type) {
-    case GeometryType::point: return "Point";
-    case GeometryType::line_string: return "LineString";
-    case GeometryType::polygon: return "Polygon";
-    case GeometryType::multi_point: return "MultiPoint";
-    case GeometryType::multi_line_string: return "MultiLineString";
-    case GeometryType::multi_polygon: return "MultiPolygon";
-  }
-  return "Unknown";
+  const std::string_view name = detail::name_of(kGeometryTypeNames, type);
+  return name.empty() ? "Unknown" : name;
 }
 
 Geometry Geometry::point(Coord c) {

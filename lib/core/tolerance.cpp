@@ -1,4 +1,5 @@
 // gridtruth — tolerances and verdicts.
+#include "core/enum_names.hpp"
 #include "gridtruth/tolerance.hpp"
 
 #include <array>
@@ -211,37 +212,21 @@ std::string Tolerance::as_given() const {
   return std::string(metric_name(metric)) + "<=1:" + format_value(ratio_n);
 }
 
-std::string_view to_string(Verdict v) noexcept {
-  switch (v) {
-    case Verdict::none: return "";
-    case Verdict::pass: return "pass";
-    case Verdict::fail: return "fail";
-  }
-  return "";
-}
+namespace {
+constexpr std::array<detail::EnumName<Verdict>, 3> kVerdictNames = {
+    {{Verdict::none, ""}, {Verdict::pass, "pass"}, {Verdict::fail, "fail"}}};
+constexpr std::array<detail::EnumName<Metric>, 3> kMetricNames = {
+    {{Metric::area, "area"}, {Metric::length, "length"}, {Metric::bearing, "bearing"}}};
+constexpr std::array<detail::EnumName<Tolerance::Kind>, 2> kKindNames = {
+    {{Tolerance::Kind::relative_ppm, "relative_ppm"}, {Tolerance::Kind::absolute, "absolute"}}};
+}  // namespace
 
-std::string_view to_string(Metric metric) noexcept {
-  switch (metric) {
-    case Metric::area: return "area";
-    case Metric::length: return "length";
-    case Metric::bearing: return "bearing";
-  }
-  return "";
-}
+std::string_view to_string(Verdict v) noexcept { return detail::name_of(kVerdictNames, v); }
 
-Metric parse_metric(std::string_view name) {
-  for (Metric m : {Metric::area, Metric::length, Metric::bearing}) {
-    if (name == to_string(m)) return m;
-  }
-  throw Error(ErrorCode::invalid_argument, "unknown metric '" + std::string(name) + "': use area, length or bearing");
-}
+std::string_view to_string(Metric metric) noexcept { return detail::name_of(kMetricNames, metric); }
 
-std::string_view to_string(Tolerance::Kind kind) noexcept {
-  switch (kind) {
-    case Tolerance::Kind::relative_ppm: return "relative_ppm";
-    case Tolerance::Kind::absolute: return "absolute";
-  }
-  return "";
-}
+Metric parse_metric(std::string_view name) { return detail::value_named(kMetricNames, name, "metric"); }
+
+std::string_view to_string(Tolerance::Kind kind) noexcept { return detail::name_of(kKindNames, kind); }
 
 }  // namespace gridtruth

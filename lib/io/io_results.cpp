@@ -1,10 +1,12 @@
 // gridtruth — writing audit results as CSV (RFC 4180), each figure to the precision its bound supports.
+#include <array>
 #include <charconv>
 #include <cmath>
 #include <ostream>
 #include <string>
 #include <utility>
 
+#include "core/enum_names.hpp"
 #include "gridtruth/audit.hpp"
 #include "gridtruth/io.hpp"
 #include "io_detail.hpp"
@@ -220,13 +222,15 @@ void ResultCsvWriter::write_unread_row(std::string_view id, std::string_view mes
               line_ending_);
 }
 
+namespace {
+constexpr std::array<detail::EnumName<ColumnKind>, 3> kColumnKindNames = {
+    {{ColumnKind::text, "text"},
+     {ColumnKind::count, "count"},
+     {ColumnKind::number, "number"}}};
+}  // namespace
+
 std::string_view to_string(ColumnKind kind) noexcept {
-  switch (kind) {
-    case ColumnKind::text: return "text";
-    case ColumnKind::count: return "count";
-    case ColumnKind::number: return "number";
-  }
-  return "";
+  return detail::name_of(kColumnKindNames, kind);
 }
 
 }  // namespace gridtruth

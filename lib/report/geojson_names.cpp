@@ -1,25 +1,20 @@
 // gridtruth — the names of ResultGeoJsonWriter's coordinate choices (report.hpp).
-#include <string>
+#include <array>
 
-#include "gridtruth/error.hpp"
+#include "core/enum_names.hpp"
 #include "gridtruth/report.hpp"
 
 namespace gridtruth {
 
-std::string_view to_string(GeoJsonCoordinates coordinates) noexcept {
-  switch (coordinates) {
-    case GeoJsonCoordinates::wgs84: return "wgs84";
-    case GeoJsonCoordinates::source: return "source";
-  }
-  return "";
-}
+namespace {
+constexpr std::array<detail::EnumName<GeoJsonCoordinates>, 2> kNames = {
+    {{GeoJsonCoordinates::wgs84, "wgs84"}, {GeoJsonCoordinates::source, "source"}}};
+}  // namespace
+
+std::string_view to_string(GeoJsonCoordinates coordinates) noexcept { return detail::name_of(kNames, coordinates); }
 
 GeoJsonCoordinates parse_geojson_coordinates(std::string_view name) {
-  for (GeoJsonCoordinates c : {GeoJsonCoordinates::wgs84, GeoJsonCoordinates::source}) {
-    if (name == to_string(c)) return c;
-  }
-  throw Error(ErrorCode::invalid_argument,
-              "unknown GeoJSON coordinates '" + std::string(name) + "': use wgs84 or source");
+  return detail::value_named(kNames, name, "GeoJSON coordinates");
 }
 
 }  // namespace gridtruth

@@ -352,9 +352,7 @@ PYBIND11_MODULE(_core, m) {
   m.def("result_columns", [](bool combined_factor, bool bounds) {
     py::list out;
     for (const ResultColumn& c : result_columns(combined_factor, bounds)) {
-      out.append(py::make_tuple(std::string(c.name), c.kind == ColumnKind::text    ? "text"
-                                                      : c.kind == ColumnKind::count ? "count"
-                                                                                    : "number"));
+      out.append(py::make_tuple(std::string(c.name), std::string(to_string(c.kind))));
     }
     return out;
   }, py::arg("combined_factor") = false, py::arg("bounds") = false,
