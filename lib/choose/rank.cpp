@@ -291,6 +291,97 @@ GeoExtent extent_of(const std::vector<RankFeature>& features) {
   return extent_of_geometries(features, [](const RankFeature& f) -> const Geometry& { return f.geometry; });
 }
 
+namespace {
+
+using CandidateMap = std::map<std::string, CandidateCrs>;
+
+/// Adds the registry's projected CRSs whose area of use contains the extent (not deprecated, on the Earth).
+void add_registry_candidates(PJ_CONTEXT* c, const GeoExtent& extent, CandidateMap& found) {
+  PROJ_CRS_LIST_PARAMETERS* params = proj_get_crs_list_parameters_create();
+  PJ_TYPE types[] = {PJ_TYPE_PROJECTED_CRS};
+  params->types = types;
+  params->typesCount = 1;
+  params->crs_area_of_use_contains_bbox = 1;
+  params->bbox_valid = 1;
+  // PROJ takes west > east as an extent across the antimeridian.
+  params->west_lon_degree = extent.west_deg;
+  params->east_lon_degree = extent.east_deg;
+  params->south_lat_degree = extent.south_deg;
+  params->north_lat_degree = extent.north_deg;
+  params->allow_deprecated = 0;
+  int count = 0;
+  PROJ_CRS_INFO** list = proj_get_crs_info_list_from_database(c, nullptr, params, &count);
+  for (int k = 0; list && k < count; ++k) {
+    const PROJ_CRS_INFO* info = list[k];
+    if (info->deprecated) continue;
+    if (info->celestial_body_name && std::string(info->celestial_body_name) != "Earth") continue;
+    CandidateCrs cand;
+    cand.crs = std::string(info->auth_name) + ":" + info->code;
+    cand.name = info->name ? info->name : "";
+    cand.definition = cand.crs;
+    cand.inside_area_of_use = true;  // the query asked for areas of use containing the extent
+    found.emplace(cand.crs, cand);
+  }
+  if (list) proj_crs_info_list_destroy(list);
+  proj_get_crs_list_parameters_destroy(params);
+}
+
+/// Adds the world equal-area baselines not found already.
+void add_baseline_candidates(const GeoExtent& extent, CandidateMap& found) {
+  // World equal-area baselines (EPSG:6933 NSIDC EASE-Grid 2.0 Global, EPSG:8857 Equal Earth Greenwich).
+  for (const char* id : {"EPSG:6933", "EPSG:8857"}) {
+    if (found.count(id)) continue;
+    try {
+      const CrsInfo info = describe_crs(id);
+      CandidateCrs cand{id, info.name, false, id, std::nullopt};
+      cand.inside_area_of_use = info.area_of_use ? extent_inside(extent, *info.area_of_use) : false;
+      found.emplace(id, cand);
+    } catch (const Error&) {
+    }
+  }
+}
+
+/// Adds the CRSs generated for the extent on the source's ellipsoid: UTM zones, transverse Mercator, conics by the
+/// 1/6 rule, azimuthals at the centroid.
+void add_generated_candidates(const GeoExtent& extent, const CrsInfo& source, CandidateMap& found) {
+  const std::string datum = detail::proj_ellipsoid_terms(source.ellipsoid);
+  const std::string tail = " " + datum + " +units=m +no_defs +type=crs";
+  const double lon0 = extent.centre_lon_deg, lat0 = extent.centre_lat_deg;
+  const double span = extent.north_deg - extent.south_deg;
+  // Standard parallels one sixth of the latitude span inside its edges (common practice).
+  const double lat1 = extent.south_deg + span / 6, lat2 = extent.north_deg - span / 6;
+  auto add = [&](const std::string& label, const std::string& name, const std::string& def) {
+    found.emplace(label, CandidateCrs{label, name, true, def, std::nullopt});
+  };
+  // UTM zones of the centroid and of the extent's edges (at most three, deduplicated by the map).
+  const bool south = lat0 < 0;
+  for (double lon : {lon0, extent.west_deg, extent.east_deg}) {
+    const int zone = std::min(60, static_cast<int>(std::floor((wrap180(lon) + 180) / 6)) + 1);
+    const int centre_zone = std::min(60, static_cast<int>(std::floor((wrap180(lon0) + 180) / 6)) + 1);
+    int dz = std::abs(zone - centre_zone);
+    dz = std::min(dz, 60 - dz);
+    if (dz > 1) continue;
+    char label[48];
+    std::snprintf(label, sizeof label, "generated:utm%02d%c", zone, south ? 's' : 'n');
+    add(label, "UTM zone " + std::to_string(zone) + (south ? "S" : "N") + " on the data's datum",
+        "+proj=utm +zone=" + std::to_string(zone) + (south ? " +south" : "") + tail);
+  }
+  add("generated:tmerc", "Transverse Mercator on the data's central meridian",
+      "+proj=tmerc +lat_0=0 +lon_0=" + num(lon0) + " +k=1 +x_0=500000 +y_0=0" + tail);
+  add("generated:aea", "Albers equal-area, standard parallels by the 1/6 rule",
+      "+proj=aea +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +lat_1=" + num(lat1) + " +lat_2=" + num(lat2) +
+          " +x_0=0 +y_0=0" + tail);
+  add("generated:lcc", "Lambert conformal conic, standard parallels by the 1/6 rule",
+      "+proj=lcc +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +lat_1=" + num(lat1) + " +lat_2=" + num(lat2) +
+          " +x_0=0 +y_0=0" + tail);
+  add("generated:laea", "Lambert azimuthal equal-area at the centroid",
+      "+proj=laea +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +x_0=0 +y_0=0" + tail);
+  add("generated:aeqd", "Azimuthal equidistant at the centroid",
+      "+proj=aeqd +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +x_0=0 +y_0=0" + tail);
+}
+
+}  // namespace
+
 std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptions& options) {
   detail::Context ctx = detail::make_context();
   PJ_CONTEXT* c = ctx.get();
@@ -299,82 +390,11 @@ std::vector<CandidateCrs> candidate_crs(const GeoExtent& extent, const RankOptio
     throw Error(ErrorCode::unsupported_crs, "ranking needs a geographic source CRS; '" + options.source_crs +
                                                 "' (" + source.name + ") is not one");
   }
-  std::map<std::string, CandidateCrs> found;
-  if (options.registry) {
-    PROJ_CRS_LIST_PARAMETERS* params = proj_get_crs_list_parameters_create();
-    PJ_TYPE types[] = {PJ_TYPE_PROJECTED_CRS};
-    params->types = types;
-    params->typesCount = 1;
-    params->crs_area_of_use_contains_bbox = 1;
-    params->bbox_valid = 1;
-    // PROJ takes west > east as an extent across the antimeridian.
-    params->west_lon_degree = extent.west_deg;
-    params->east_lon_degree = extent.east_deg;
-    params->south_lat_degree = extent.south_deg;
-    params->north_lat_degree = extent.north_deg;
-    params->allow_deprecated = 0;
-    int count = 0;
-    PROJ_CRS_INFO** list = proj_get_crs_info_list_from_database(c, nullptr, params, &count);
-    for (int k = 0; list && k < count; ++k) {
-      const PROJ_CRS_INFO* info = list[k];
-      if (info->deprecated) continue;
-      if (info->celestial_body_name && std::string(info->celestial_body_name) != "Earth") continue;
-      CandidateCrs cand;
-      cand.crs = std::string(info->auth_name) + ":" + info->code;
-      cand.name = info->name ? info->name : "";
-      cand.definition = cand.crs;
-      cand.inside_area_of_use = true;  // the query asked for areas of use containing the extent
-      found.emplace(cand.crs, cand);
-    }
-    if (list) proj_crs_info_list_destroy(list);
-    proj_get_crs_list_parameters_destroy(params);
-  }
+  CandidateMap found;
+  if (options.registry) add_registry_candidates(c, extent, found);
   if (options.generated) {
-    // World equal-area baselines (EPSG:6933 NSIDC EASE-Grid 2.0 Global, EPSG:8857 Equal Earth Greenwich).
-    for (const char* id : {"EPSG:6933", "EPSG:8857"}) {
-      if (found.count(id)) continue;
-      try {
-        const CrsInfo info = describe_crs(id);
-        CandidateCrs cand{id, info.name, false, id, std::nullopt};
-        cand.inside_area_of_use = info.area_of_use ? extent_inside(extent, *info.area_of_use) : false;
-        found.emplace(id, cand);
-      } catch (const Error&) {
-      }
-    }
-    const std::string datum = detail::proj_ellipsoid_terms(source.ellipsoid);
-    const std::string tail = " " + datum + " +units=m +no_defs +type=crs";
-    const double lon0 = extent.centre_lon_deg, lat0 = extent.centre_lat_deg;
-    const double span = extent.north_deg - extent.south_deg;
-    // Standard parallels one sixth of the latitude span inside its edges (common practice).
-    const double lat1 = extent.south_deg + span / 6, lat2 = extent.north_deg - span / 6;
-    auto add = [&](const std::string& label, const std::string& name, const std::string& def) {
-      found.emplace(label, CandidateCrs{label, name, true, def, std::nullopt});
-    };
-    // UTM zones of the centroid and of the extent's edges (at most three, deduplicated by the map).
-    const bool south = lat0 < 0;
-    for (double lon : {lon0, extent.west_deg, extent.east_deg}) {
-      const int zone = std::min(60, static_cast<int>(std::floor((wrap180(lon) + 180) / 6)) + 1);
-      const int centre_zone = std::min(60, static_cast<int>(std::floor((wrap180(lon0) + 180) / 6)) + 1);
-      int dz = std::abs(zone - centre_zone);
-      dz = std::min(dz, 60 - dz);
-      if (dz > 1) continue;
-      char label[48];
-      std::snprintf(label, sizeof label, "generated:utm%02d%c", zone, south ? 's' : 'n');
-      add(label, "UTM zone " + std::to_string(zone) + (south ? "S" : "N") + " on the data's datum",
-          "+proj=utm +zone=" + std::to_string(zone) + (south ? " +south" : "") + tail);
-    }
-    add("generated:tmerc", "Transverse Mercator on the data's central meridian",
-        "+proj=tmerc +lat_0=0 +lon_0=" + num(lon0) + " +k=1 +x_0=500000 +y_0=0" + tail);
-    add("generated:aea", "Albers equal-area, standard parallels by the 1/6 rule",
-        "+proj=aea +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +lat_1=" + num(lat1) + " +lat_2=" + num(lat2) +
-            " +x_0=0 +y_0=0" + tail);
-    add("generated:lcc", "Lambert conformal conic, standard parallels by the 1/6 rule",
-        "+proj=lcc +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +lat_1=" + num(lat1) + " +lat_2=" + num(lat2) +
-            " +x_0=0 +y_0=0" + tail);
-    add("generated:laea", "Lambert azimuthal equal-area at the centroid",
-        "+proj=laea +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +x_0=0 +y_0=0" + tail);
-    add("generated:aeqd", "Azimuthal equidistant at the centroid",
-        "+proj=aeqd +lat_0=" + num(lat0) + " +lon_0=" + num(lon0) + " +x_0=0 +y_0=0" + tail);
+    add_baseline_candidates(extent, found);
+    add_generated_candidates(extent, source, found);
   }
   std::vector<CandidateCrs> out;
   out.reserve(found.size());
@@ -452,6 +472,68 @@ RankedCrs detail::audit_candidate(const CandidateCrs& candidate, const std::vect
   return out;
 }
 
+namespace {
+
+using Screened = std::vector<std::pair<double, std::size_t>>;
+
+/// The candidates' screening values (ppm) with their indices, best first.
+Screened screen_candidates(const std::vector<CandidateCrs>& candidates, const std::vector<RankFeature>& features,
+                           const RankOptions& options) {
+  const CrsInfo source = describe_crs(options.source_crs);
+  const std::vector<detail::ScreenPoint> points =
+      detail::screen_points(features, source.ellipsoid, options.screen_points);
+  Screened screened;
+  {
+    detail::Context ctx = detail::make_context();
+    for (std::size_t k = 0; k < candidates.size(); ++k) {
+      screened.emplace_back(detail::screen_definition(ctx.get(), candidates[k].definition, points, options.metric), k);
+    }
+  }
+  // Screening values closer than 0.01 ppm are ties (below the estimate's meaning), broken by crs id.
+  for (auto& entry : screened) {
+    if (std::isfinite(entry.first)) entry.first = std::round(entry.first * 100) / 100;
+  }
+  std::sort(screened.begin(), screened.end(), [&](const auto& a, const auto& b) {
+    if (a.first != b.first) return a.first < b.first;
+    return candidates[a.second].crs < candidates[b.second].crs;
+  });
+  return screened;
+}
+
+/// The sample: all usable features, or the `sample_features` with the smallest hash of (seed, position) when there
+/// are more.
+std::vector<std::size_t> sample_of(const std::vector<std::size_t>& usable, const RankOptions& options) {
+  std::vector<std::size_t> sample = usable;
+  if (options.sample_features > 0 && usable.size() > options.sample_features) {
+    std::vector<std::pair<std::uint64_t, std::size_t>> keyed;
+    for (std::size_t i : usable) keyed.emplace_back(splitmix64(options.seed ^ splitmix64(i)), i);
+    std::nth_element(keyed.begin(), keyed.begin() + static_cast<std::ptrdiff_t>(options.sample_features),
+                     keyed.end());
+    keyed.resize(options.sample_features);
+    sample.clear();
+    for (const auto& kv : keyed) sample.push_back(kv.second);
+    std::sort(sample.begin(), sample.end());
+  }
+  return sample;
+}
+
+/// The best `full_reaudit` of the ranking audited again on every usable feature; they lead the ranking.
+std::vector<RankedCrs> reaudit_in_full(std::vector<RankedCrs> audited, const std::vector<RankFeature>& features,
+                                       const std::vector<std::size_t>& usable, const RankOptions& options) {
+  const std::size_t n = std::min(options.full_reaudit, audited.size());
+  std::vector<RankedCrs> full;
+  for (std::size_t k = 0; k < n; ++k) {
+    RankedCrs r = detail::audit_candidate(audited[k].candidate, features, usable, options);
+    r.screen_ppm = audited[k].screen_ppm;
+    full.push_back(std::move(r));
+  }
+  std::sort(full.begin(), full.end(), better);
+  for (std::size_t k = n; k < audited.size(); ++k) full.push_back(audited[k]);
+  return full;
+}
+
+}  // namespace
+
 RankReport rank_crs(const std::vector<RankFeature>& features, const RankOptions& options) {
   RankReport report;
   report.extent = extent_of(features);
@@ -472,38 +554,11 @@ RankReport rank_crs(const std::vector<RankFeature>& features, const RankOptions&
   report.candidates = candidates.size();
 
   // Screening: distortion factors at sample vertices, one PROJ context (cheap: no datum operations built).
-  const CrsInfo source = describe_crs(options.source_crs);
-  const std::vector<detail::ScreenPoint> points =
-      detail::screen_points(features, source.ellipsoid, options.screen_points);
-  std::vector<std::pair<double, std::size_t>> screened;
-  {
-    detail::Context ctx = detail::make_context();
-    for (std::size_t k = 0; k < candidates.size(); ++k) {
-      screened.emplace_back(detail::screen_definition(ctx.get(), candidates[k].definition, points, options.metric), k);
-    }
-  }
-  // Screening values closer than 0.01 ppm are ties (below the estimate's meaning), broken by crs id.
-  for (auto& entry : screened) {
-    if (std::isfinite(entry.first)) entry.first = std::round(entry.first * 100) / 100;
-  }
-  std::sort(screened.begin(), screened.end(), [&](const auto& a, const auto& b) {
-    if (a.first != b.first) return a.first < b.first;
-    return candidates[a.second].crs < candidates[b.second].crs;
-  });
+  const Screened screened = screen_candidates(candidates, features, options);
 
   // The sample: all usable features, or the `sample_features` with the smallest hash of (seed, position).
-  std::vector<std::size_t> sample = usable;
-  const bool sampling = options.sample_features > 0 && usable.size() > options.sample_features;
-  if (sampling) {
-    std::vector<std::pair<std::uint64_t, std::size_t>> keyed;
-    for (std::size_t i : usable) keyed.emplace_back(splitmix64(options.seed ^ splitmix64(i)), i);
-    std::nth_element(keyed.begin(), keyed.begin() + static_cast<std::ptrdiff_t>(options.sample_features),
-                     keyed.end());
-    keyed.resize(options.sample_features);
-    sample.clear();
-    for (const auto& kv : keyed) sample.push_back(kv.second);
-    std::sort(sample.begin(), sample.end());
-  }
+  const std::vector<std::size_t> sample = sample_of(usable, options);
+  const bool sampling = sample.size() < usable.size();
   report.sample = sample.size();
 
   std::vector<RankedCrs> audited;
@@ -523,16 +578,7 @@ RankReport rank_crs(const std::vector<RankFeature>& features, const RankOptions&
   std::sort(audited.begin(), audited.end(), better);
   if (sampling) {
     // Exact re-audit of the best on every feature; they lead the ranking.
-    const std::size_t n = std::min(options.full_reaudit, audited.size());
-    std::vector<RankedCrs> full;
-    for (std::size_t k = 0; k < n; ++k) {
-      RankedCrs r = detail::audit_candidate(audited[k].candidate, features, usable, options);
-      r.screen_ppm = audited[k].screen_ppm;
-      full.push_back(std::move(r));
-    }
-    std::sort(full.begin(), full.end(), better);
-    for (std::size_t k = n; k < audited.size(); ++k) full.push_back(audited[k]);
-    audited = std::move(full);
+    audited = reaudit_in_full(std::move(audited), features, usable, options);
   }
   report.ranked = std::move(audited);
   return report;

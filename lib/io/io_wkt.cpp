@@ -22,23 +22,42 @@ class WktParser {
     const std::size_t keyword_at = i_;
     std::string keyword = word();
     if (keyword.empty()) return fail(error, "expected a geometry type keyword", keyword_at);
+    std::string dims = glued_dimension(keyword);
+    if (!geometry_type(keyword, g.type, error, keyword_at)) return false;
+    declared = g.type;
+    dimension(dims);
+    const bool ok = body(g);
+    if (!error_.empty()) return fail(error, error_, error_at_);
+    if (!ok) return fail(error, "malformed WKT", i_);
+    skip_space();
+    if (i_ < s_.size()) return fail(error, std::string("unexpected \"") + s_[i_] + "\" after the geometry", i_);
+    return true;
+  }
+
+ private:
+  /// Takes a dimension glued to the keyword off it and returns it ("ZM", "Z", "M"; empty when none).
+  static std::string glued_dimension(std::string& keyword) {
     // "POINTZ", "LINESTRINGM", "POLYGONZM": a dimension glued to the keyword (no type name ends in Z or M).
-    std::string dims;
     for (const char* suffix : {"ZM", "Z", "M"}) {
       const std::string suf(suffix);
       if (keyword.size() > suf.size() && keyword.compare(keyword.size() - suf.size(), suf.size(), suf) == 0 &&
           known(keyword.substr(0, keyword.size() - suf.size()))) {
-        dims = suf;
         keyword.resize(keyword.size() - suf.size());
-        break;
+        return suf;
       }
     }
-    if (keyword == "POINT") g.type = GeometryType::point;
-    else if (keyword == "LINESTRING") g.type = GeometryType::line_string;
-    else if (keyword == "POLYGON") g.type = GeometryType::polygon;
-    else if (keyword == "MULTIPOINT") g.type = GeometryType::multi_point;
-    else if (keyword == "MULTILINESTRING") g.type = GeometryType::multi_line_string;
-    else if (keyword == "MULTIPOLYGON") g.type = GeometryType::multi_polygon;
+    return {};
+  }
+
+  /// The geometry type the keyword names; false with `error` set for a type gridtruth does not read.
+  static bool geometry_type(const std::string& keyword, GeometryType& type, std::string& error,
+                            std::size_t keyword_at) {
+    if (keyword == "POINT") type = GeometryType::point;
+    else if (keyword == "LINESTRING") type = GeometryType::line_string;
+    else if (keyword == "POLYGON") type = GeometryType::polygon;
+    else if (keyword == "MULTIPOINT") type = GeometryType::multi_point;
+    else if (keyword == "MULTILINESTRING") type = GeometryType::multi_line_string;
+    else if (keyword == "MULTIPOLYGON") type = GeometryType::multi_polygon;
     else if (keyword == "GEOMETRYCOLLECTION")
       return fail(error, "GEOMETRYCOLLECTION is not supported: give each member as a feature of its own", keyword_at);
     else if (keyword == "CIRCULARSTRING" || keyword == "COMPOUNDCURVE" || keyword == "CURVEPOLYGON" ||
@@ -48,8 +67,12 @@ class WktParser {
                   keyword_at);
     else
       return fail(error, "unknown geometry type \"" + keyword + "\"", keyword_at);
-    declared = g.type;
+    return true;
+  }
 
+  /// Reads a dimension keyword after the type ("POINT Z (...)") unless `dims` is set already, and sets the
+  /// number of ordinates a position has.
+  void dimension(std::string dims) {
     skip_space();
     if (dims.empty()) {
       const std::size_t at = i_;
@@ -59,12 +82,15 @@ class WktParser {
     }
     ordinates_ = dims.empty() ? 0 : (dims == "ZM" ? 4 : 3);
     measure_only_ = dims == "M";
+  }
 
+  /// Reads the geometry's body after its keyword into `g` (whose type is set); false when it is malformed.
+  bool body(Geometry& g) {
     bool ok = true;
     switch (g.type) {
       case GeometryType::point: {
         std::vector<Coord> pts;
-        if (!empty_or_open()) break;
+        if (!empty_or_open()) return true;  // the error is in error_
         if (!is_empty_) {
           Coord c;
           ok = coord(c) && close();
@@ -103,14 +129,9 @@ class WktParser {
         });
         break;
     }
-    if (!error_.empty()) return fail(error, error_, error_at_);
-    if (!ok) return fail(error, "malformed WKT", i_);
-    skip_space();
-    if (i_ < s_.size()) return fail(error, std::string("unexpected \"") + s_[i_] + "\" after the geometry", i_);
-    return true;
+    return ok;
   }
 
- private:
   static bool known(const std::string& k) {
     return k == "POINT" || k == "LINESTRING" || k == "POLYGON" || k == "MULTIPOINT" || k == "MULTILINESTRING" ||
            k == "MULTIPOLYGON" || k == "GEOMETRYCOLLECTION";
