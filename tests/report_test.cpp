@@ -563,7 +563,8 @@ TEST_F(ReportCliTest, GeojsonCarriesTheBoundColumnsOnlyWhenAsked) {
                    path("out2.geojson")}), 1)
       << slurp(path("stderr"));
   EXPECT_EQ(parse_csv(slurp(path("rows2.csv")))[0].size(), first_bound);
-  for (const auto& f : nlohmann::json::parse(slurp(path("out2.geojson"))).at("features")) {
+  const auto doc2 = nlohmann::json::parse(slurp(path("out2.geojson")));  // kept: a range-for over a member of
+  for (const auto& f : doc2.at("features")) {                            // a temporary would read freed memory
     EXPECT_FALSE(f.at("properties").contains("true_length_bound_m"));
     EXPECT_FALSE(f.at("properties").contains("area_from_height_bound_m2"));
   }
