@@ -433,7 +433,8 @@ TEST(ClassAreas, RawAndCountsFilesGiveTheAreasOfTheirCodes) {
         b(bad, std::ios::binary);
     for (const std::uint16_t code : codes8) f8.put(static_cast<char>(code));
     for (const std::uint16_t code : codes16) f16.put(static_cast<char>(code & 0xFF)).put(static_cast<char>(code >> 8));
-    c << "row,class,count\r\n0,1,2\r\n0,2,1\r\n0,7,1\r\n\r\n1,2,3\r\n1,7,1\r\n2,1,1\r\n2,9,3\r\n";
+    // RFC 4180 section 2.5: any field may be quoted ("1,7,1" written by a spreadsheet as "1","7","1").
+    c << "row,class,count\r\n0,1,2\r\n0,2,1\r\n0,7,1\r\n\r\n1,2,3\r\n\"1\",\"7\",\"1\"\r\n2,1,1\r\n2,9,3\r\n";
     b << "row,class,count\n0,1,2\n0,2\n";
   }
   auto same = [](const std::vector<ClassArea>& got, const std::vector<ClassArea>& want, const std::string& what) {

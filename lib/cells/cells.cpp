@@ -18,6 +18,7 @@
 
 #include "gridtruth/error.hpp"
 #include "core/compensated_sum.hpp"
+#include "io/io_detail.hpp"
 #include "core/proj_handles.hpp"
 
 namespace gridtruth {
@@ -496,13 +497,9 @@ void add_raw_class_raster(const std::string& path, const GridSpec& g, RawCodeTyp
 
 namespace {
 
-/// One line "row,class,count" of a counts CSV as three whole numbers; Error(parse) naming `where` otherwise.
-std::array<unsigned long long, 3> count_fields(const std::string& line, const std::string& where) {
-  std::istringstream fields(line);
-  std::string f[3];
-  if (!std::getline(fields, f[0], ',') || !std::getline(fields, f[1], ',') || !std::getline(fields, f[2]) ||
-      f[2].find(',') != std::string::npos)
-    throw Error(ErrorCode::parse, where + ": needs row,class,count");
+/// The three fields of a "row,class,count" record as whole numbers; Error(parse) naming `where` otherwise.
+std::array<unsigned long long, 3> count_fields(const std::vector<std::string>& f, const std::string& where) {
+  if (f.size() != 3) throw Error(ErrorCode::parse, where + ": needs row,class,count");
   std::array<unsigned long long, 3> v{};
   for (int k = 0; k < 3; ++k) {
     char* end = nullptr;
@@ -519,17 +516,16 @@ std::array<unsigned long long, 3> count_fields(const std::string& line, const st
 void add_class_counts_csv(const std::string& path, ClassAreaAccumulator& acc) {
   std::ifstream in(path, std::ios::binary);
   if (!in) throw Error(ErrorCode::io, "cannot read " + path);
-  std::string line;
-  std::getline(in, line);
-  if (!line.empty() && line.back() == '\r') line.pop_back();
-  if (line != "row,class,count") throw Error(ErrorCode::parse, path + ": the first line must be 'row,class,count'");
-  std::size_t line_no = 1;
-  while (std::getline(in, line)) {
-    ++line_no;
-    if (!line.empty() && line.back() == '\r') line.pop_back();
-    if (line.empty()) continue;
-    const std::string where = path + " line " + std::to_string(line_no);
-    const auto v = count_fields(line, where);
+  // Read as any CSV (RFC 4180, the library's one reader: CRLF or LF, quoted fields); blank lines are skipped.
+  detail::Source source(in);
+  detail::CsvRecord r;
+  if (!detail::read_csv_record(source, r) || r.fields != std::vector<std::string>{"row", "class", "count"})
+    throw Error(ErrorCode::parse, path + ": the first line must be 'row,class,count'");
+  while (detail::read_csv_record(source, r)) {
+    if (r.fields.size() == 1 && r.fields[0].empty()) continue;
+    const std::string where = path + " line " + std::to_string(r.line);
+    if (!r.error.empty()) throw Error(ErrorCode::parse, where + ": " + r.error);
+    const auto v = count_fields(r.fields, where);
     try {
       // A code beyond 2^20 is held there, so that it cannot wrap into a valid one: add_row_count() refuses it.
       acc.add_row_count(static_cast<std::size_t>(v[0]), static_cast<std::uint32_t>(std::min(v[1], 1ull << 20)),

@@ -33,19 +33,9 @@ std::string trim(std::string_view s) {
   return std::string(s.substr(b, e - b));
 }
 
-struct Record {
-  std::vector<std::string> fields;
-  std::size_t line = 0;
-  std::uint64_t first_byte = 0;
-  std::string error;  // a malformed record (still one feature)
-  bool damaged = false;  // an open quote was cut at the end of its line or of the input; `error` says so
-};
+}  // namespace
 
-/// Reads one RFC 4180 record. Returns false at the end of the input (no record).
-/// A quote still open at the end of the input that spans lines cannot be told from a quote missing where it opens
-/// (a missing closing quote swallows every later record): the record is ended at the end of the quote's first line,
-/// and the bytes after it go back to the source to be read as the next records.
-bool read_record(Source& src, Record& r) {
+bool read_csv_record(Source& src, CsvRecord& r) {
   r.fields.clear();
   r.error.clear();
   r.damaged = false;
@@ -124,6 +114,8 @@ bool read_record(Source& src, Record& r) {
   }
 }
 
+namespace {
+
 class CsvReader final : public FormatReader {
  public:
   CsvReader(Source& src, const ReaderOptions& options) : src_(src), options_(options), problems_(problems) {}
@@ -140,9 +132,9 @@ class CsvReader final : public FormatReader {
  private:
   std::optional<InputFeature> read() {
     if (!header_read_) read_header();
-    Record r;
+    CsvRecord r;
     for (;;) {
-      if (!read_record(src_, r)) return std::nullopt;
+      if (!read_csv_record(src_, r)) return std::nullopt;
       if (r.fields.size() == 1 && r.fields[0].empty() && r.error.empty()) continue;  // a blank line
       break;
     }
@@ -213,8 +205,8 @@ class CsvReader final : public FormatReader {
   void read_header() {
     header_read_ = true;
     src_.skip_bom();
-    Record h;
-    if (!read_record(src_, h))
+    CsvRecord h;
+    if (!read_csv_record(src_, h))
       throw Error(ErrorCode::parse, "CSV: the input is empty (a header line naming the columns is needed)");
     if (!h.error.empty()) throw Error(ErrorCode::parse, "CSV header (line 1): " + h.error);
     columns_ = h.fields.size();

@@ -123,6 +123,20 @@ void parse_json_feature_reference(const CutFeature& raw, const ReaderOptions& op
 std::unique_ptr<FormatReader> make_geojson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_ndjson_reader(Source& source, const ReaderOptions& options);
 std::unique_ptr<FormatReader> make_csv_reader(Source& source, const ReaderOptions& options);
+
+/// One RFC 4180 record as read_csv_record() gives it.
+struct CsvRecord {
+  std::vector<std::string> fields;
+  std::size_t line = 0;          ///< 1-based line where the record starts
+  std::uint64_t first_byte = 0;  ///< 0-based offset of its first byte
+  std::string error;             ///< a malformed record (still one record)
+  bool damaged = false;          ///< an open quote was cut at the end of its line or of the input; `error` says so
+};
+
+/// Reads one RFC 4180 record (the one CSV reader: features, and the class counts of lib/cells/). Returns false at
+/// the end of the input. A quote still open at the end of the input that spans lines ends the record at the end
+/// of the quote's first line, and the bytes after it go back to the source to be read as the next records.
+bool read_csv_record(Source& src, CsvRecord& r);
 /// What kind of GDAL/OGR data source `path` is ("GeoPackage or SQLite", "Shapefile", ...), judged by
 /// `format`, the path's kind (a directory), its first bytes and its extension; empty when it is one of the text
 /// formats gridtruth reads itself (GeoJSON, ndjson, CSV) or cannot be opened at all.
