@@ -4,13 +4,14 @@
 #include <algorithm>
 #include <cmath>
 
+#include "core/geometry_kind.hpp"
 
 namespace gridtruth {
 
 namespace {
 
-bool is_linear(GeometryType t) { return t == GeometryType::line_string || t == GeometryType::multi_line_string; }
-bool is_areal(GeometryType t) { return t == GeometryType::polygon || t == GeometryType::multi_polygon; }
+using detail::is_areal;
+using detail::is_linear;
 
 bool worse(const WorstFeature& a, const WorstFeature& b) {
   const double fa = std::fabs(a.error_ppm), fb = std::fabs(b.error_ppm);

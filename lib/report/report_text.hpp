@@ -11,6 +11,7 @@
 #include <string>
 #include <string_view>
 
+#include "core/geometry_kind.hpp"
 #include "gridtruth/audit.hpp"
 #include "gridtruth/geometry.hpp"
 #include "gridtruth/text.hpp"
@@ -19,8 +20,6 @@ namespace gridtruth::detail {
 
 inline constexpr double nan_v = std::numeric_limits<double>::quiet_NaN();
 
-inline bool is_linear(GeometryType t) { return t == GeometryType::line_string || t == GeometryType::multi_line_string; }
-inline bool is_areal(GeometryType t) { return t == GeometryType::polygon || t == GeometryType::multi_polygon; }
 
 /// The budget a feature is judged by: area for polygons, length for lines (as the run summary ranks them).
 inline const Budget* primary_budget(const AuditResult& r) {
